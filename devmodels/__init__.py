@@ -1,0 +1,35 @@
+"""devmodels: small-signal transistor stages, from a bias point to two-port parameters.
+
+Data flow (one module per step)::
+
+    bias.BipolarBias -> models.HybridPi / TModel -> indefinite.device_indefinite (F, 3, 3)
+        -> configs / stage.Stage (ce, cb, cc) -> twoport.TwoPort + conversions.convert
+        -> crosscheck (against scikit-rf)
+
+All values are SI floats (A, V, ohm, F, Hz, K).  Two-port data are complex arrays of
+shape (F, 2, 2), frequency first.  ``import devmodels`` loads numpy only; scikit-rf,
+sympy, matplotlib, rich and typer are imported where they are used.
+"""
+
+from __future__ import annotations
+
+from .bias import BipolarBias
+from .configs import CONFIG_TERMINALS, config_y, indefinite_from_y, reconfigure
+from .constants import BOLTZMANN, ELEMENTARY_CHARGE, KINDS, thermal_voltage
+from .conversions import convert
+from .verify import CrossCheck, crosscheck
+from .exceptions import (BiasError, DevModelsError, FileFormatError, InputError,
+                         SingularParameterError)
+from .indefinite import device_indefinite
+from .models import HybridPi, TModel
+from .stage import Stage, stage_two_port
+from .twoport import TwoPort
+
+__version__ = "0.1.0"
+
+__all__ = [
+    "BipolarBias", "HybridPi", "TModel", "Stage", "stage_two_port", "TwoPort", "convert",
+    "reconfigure", "config_y", "indefinite_from_y", "device_indefinite", "crosscheck", "CrossCheck",
+    "CONFIG_TERMINALS", "KINDS", "BOLTZMANN", "ELEMENTARY_CHARGE", "thermal_voltage",
+    "DevModelsError", "InputError", "BiasError", "SingularParameterError", "FileFormatError",
+]

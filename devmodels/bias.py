@@ -1,0 +1,129 @@
+"""Bias points of bipolar transistors, as read off a datasheet.
+
+A :class:`BipolarBias` holds the DC operating point (IC, VCE, temperature) and the
+datasheet values needed by the small-signal model.  It refuses anything that is
+not a forward-active bias point.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Literal
+
+from .exceptions import BiasError, InputError
+
+__all__ = ["BipolarBias", "DEFAULT_VCE_SAT", "DEFAULT_TEMP"]
+
+#: Default VCE below which the transistor is taken to be saturated, in V
+#: (common practice, no source: 0.2 V to 0.3 V is the usual small-signal figure).
+DEFAULT_VCE_SAT = 0.3
+#: Default temperature in K.
+DEFAULT_TEMP = 300.0
+
+
+def _finite(name: str, value: float | None, unit: str, *, positive=False, nonneg=False,
+            optional=False) -> float | None:
+    if value is None:
+        if optional:
+            return None
+        raise InputError(f"{name}: a value is required ({unit})")
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"{name}: expected a number in {unit}, got {value!r}") from None
+    if not math.isfinite(v):
+        raise InputError(f"{name}: expected a finite value in {unit}, got {value!r}")
+    if positive and v <= 0:
+        raise InputError(f"{name}: expected a positive value in {unit}, got {v:g}")
+    if nonneg and v < 0:
+        raise InputError(f"{name}: expected a value >= 0 in {unit}, got {v:g}")
+    return v
+
+
+@dataclass(frozen=True, slots=True)
+class BipolarBias:
+    """Bias point and datasheet values of a bipolar transistor.
+
+    Parameters
+    ----------
+    ic : float
+        Collector current magnitude in A (for a pnp, a negative value is read as
+        the pnp sign convention and its magnitude is used).
+    vce : float
+        Collector-emitter voltage magnitude in V (same sign rule as ``ic``).
+    beta : float
+        Small-signal current gain hfe at the bias point (dimensionless).
+    device : {'npn', 'pnp'}
+        Polarity.  The small-signal model of both is the same.
+    va : float or None
+        Early voltage in V; ``None`` means no output conductance (ro infinite).
+    ft : float or None
+        Transition frequency in Hz; ``None`` means no base-emitter capacitance.
+    cmu : float
+        Collector-base capacitance C_mu in F (datasheet Cob at the bias VCB).
+    rb : float
+        Base spreading resistance in ohm.
+    temp : float
+        Junction temperature in K.
+    rmu : float or None
+        Collector-base feedback resistance r_mu in ohm (``None``: infinite).
+    rcx, rex : float
+        Collector and emitter ohmic resistances in ohm.
+    vce_sat : float
+        VCE below which the point is taken to be saturated, in V.
+    """
+
+    ic: float
+    vce: float
+    beta: float
+    device: Literal["npn", "pnp"] = "npn"
+    va: float | None = None
+    ft: float | None = None
+    cmu: float = 0.0
+    rb: float = 0.0
+    temp: float = DEFAULT_TEMP
+    rmu: float | None = None
+    rcx: float = 0.0
+    rex: float = 0.0
+    vce_sat: float = DEFAULT_VCE_SAT
+    notes: tuple[str, ...] = field(default=(), compare=False)
+
+    def __post_init__(self) -> None:
+        if self.device not in ("npn", "pnp"):
+            raise InputError(f"device: expected npn or pnp for a bipolar bias point, got {self.device!r}")
+        ic = _finite("ic", self.ic, "A")
+        vce = _finite("vce", self.vce, "V")
+        if self.device == "pnp":
+            if ic < 0 and vce <= 0:
+                ic, vce = -ic, -vce
+            elif (ic < 0) != (vce < 0):
+                raise BiasError(
+                    f"ic, vce: for a pnp give both as magnitudes or both with the pnp sign, "
+                    f"got ic={ic:g} A, vce={vce:g} V")
+        if ic <= 0:
+            raise BiasError(f"ic: expected a positive collector current in A, got {ic:g} "
+                            "(not a forward-active bias point)")
+        vce_sat = _finite("vce_sat", self.vce_sat, "V", nonneg=True)
+        if vce < vce_sat:
+            raise BiasError(
+                f"vce: {vce:g} V is below the saturation threshold {vce_sat:g} V "
+                "(not a forward-active bias point)")
+        beta = _finite("beta", self.beta, "dimensionless", positive=True)
+        va = _finite("va", self.va, "V", positive=True, optional=True)
+        ft = _finite("ft", self.ft, "Hz", positive=True, optional=True)
+        cmu = _finite("cmu", self.cmu, "F", nonneg=True)
+        rb = _finite("rb", self.rb, "ohm", nonneg=True)
+        temp = _finite("temp", self.temp, "K", positive=True)
+        rmu = _finite("rmu", self.rmu, "ohm", positive=True, optional=True)
+        rcx = _finite("rcx", self.rcx, "ohm", nonneg=True)
+        rex = _finite("rex", self.rex, "ohm", nonneg=True)
+        for name, v in (("ic", ic), ("vce", vce), ("beta", beta), ("va", va), ("ft", ft),
+                        ("cmu", cmu), ("rb", rb), ("temp", temp), ("rmu", rmu), ("rcx", rcx),
+                        ("rex", rex), ("vce_sat", vce_sat)):
+            object.__setattr__(self, name, v)
+
+    @property
+    def power(self) -> float:
+        """Collector dissipation IC * VCE in W (base power neglected)."""
+        return self.ic * self.vce

@@ -1,0 +1,151 @@
+r"""Indefinite (three-terminal) admittance matrices, built by nodal stamping.
+
+A transistor with its parasitic series resistances and any external elements is
+written as a nodal admittance matrix over its terminals plus internal nodes
+(b', c', e'), shape (F, n, n), and the internal nodes are removed by Kron
+reduction (Kron, *Tensor Analysis of Networks*, 1939; also any nodal-analysis
+text, e.g. Vlach and Singhal, *Computer Methods for Circuit Analysis and Design*):
+
+.. math:: Y' = Y_{ee} - Y_{ei} Y_{ii}^{-1} Y_{ie}
+
+done one node at a time, element-wise over frequency.  The result is the
+indefinite admittance matrix with node order (b, c, e) (or (g, d, s) for a FET):
+every row and every column sums to zero.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Protocol
+
+import numpy as np
+
+from .exceptions import InputError
+
+__all__ = [
+    "stamp_admittance",
+    "stamp_vccs",
+    "stamp_cccs_branch",
+    "kron_eliminate",
+    "device_indefinite",
+    "check_freq",
+    "Stampable",
+]
+
+#: Frequency points per block when building matrices (bounds the memory of internal nodes).
+FREQ_BLOCK = 65536
+
+
+class Stampable(Protocol):
+    """What :func:`device_indefinite` needs from a device model."""
+
+    rb: float
+    rcx: float
+    rex: float
+
+    def intrinsic_stamp(self, omega: np.ndarray, Y: np.ndarray, b: int, c: int, e: int) -> None: ...
+
+
+def stamp_admittance(Y: np.ndarray, i: int, j: int, y) -> None:
+    """Add admittance ``y`` (S; scalar or shape (F,)) between nodes i and j."""
+    if np.isscalar(y) and y == 0:
+        return
+    Y[:, i, i] += y
+    Y[:, j, j] += y
+    Y[:, i, j] -= y
+    Y[:, j, i] -= y
+
+
+def stamp_vccs(Y: np.ndarray, src_from: int, src_to: int, ctl_p: int, ctl_n: int, g) -> None:
+    """Add a voltage-controlled current source.
+
+    A current ``g * (V[ctl_p] - V[ctl_n])`` (g in S) leaves node ``src_from`` through
+    the source and enters node ``src_to``.
+    """
+    Y[:, src_from, ctl_p] += g
+    Y[:, src_from, ctl_n] -= g
+    Y[:, src_to, ctl_p] -= g
+    Y[:, src_to, ctl_n] += g
+
+
+def stamp_cccs_branch(Y: np.ndarray, p: int, n: int, y, src_from: int, src_to: int, gain) -> None:
+    """Add a branch of admittance ``y`` (p to n) and a source controlled by its current.
+
+    The branch carries ``i = y (V[p] - V[n])`` from p to n; the source carries
+    ``gain * i`` out of node ``src_from`` into node ``src_to``.
+    """
+    stamp_admittance(Y, p, n, y)
+    stamp_vccs(Y, src_from, src_to, p, n, gain * y)
+
+
+def kron_eliminate(Y: np.ndarray, k: int) -> np.ndarray:
+    """Remove node ``k`` from nodal matrix ``Y`` (shape (F, n, n)) by Kron reduction."""
+    pivot = Y[:, k, k]
+    if np.any(pivot == 0):
+        raise InputError(f"internal node {k} is not connected; cannot reduce the network")
+    Y = Y - Y[:, :, k, None] * (Y[:, None, k, :] / pivot[:, None, None])
+    keep = [i for i in range(Y.shape[1]) if i != k]
+    return Y[:, keep][:, :, keep]
+
+
+def check_freq(freq) -> np.ndarray:
+    """Return frequencies as a 1-D float array in Hz, refusing negative or non-finite ones."""
+    f = np.atleast_1d(np.asarray(freq, dtype=float))
+    if f.ndim != 1:
+        raise InputError(f"freq: expected a 1-D list of frequencies in Hz, got shape {f.shape}")
+    if f.size == 0:
+        raise InputError("freq: expected at least one frequency in Hz")
+    if not np.all(np.isfinite(f)) or np.any(f < 0):
+        bad = f[~(np.isfinite(f) & (f >= 0))][0]
+        raise InputError(f"freq: expected frequencies >= 0 Hz, got {bad:g}")
+    return f
+
+
+def device_indefinite(model: Stampable, freq, *, r_degen: float = 0.0,
+                      r_feedback: float | None = None) -> np.ndarray:
+    """Indefinite admittance matrix of a device and its external elements.
+
+    Parameters
+    ----------
+    model : HybridPi or TModel (or any :class:`Stampable`)
+        The small-signal model.
+    freq : array_like
+        Frequencies in Hz, shape (F,).
+    r_degen : float
+        External emitter (source) degeneration resistance in ohm, in series with the
+        emitter terminal; 0 for none.
+    r_feedback : float or None
+        External collector-base (drain-gate) feedback resistance in ohm; ``None`` for none.
+
+    Returns
+    -------
+    ndarray, complex, shape (F, 3, 3)
+        Node order (b, c, e); admittances in S.
+    """
+    f = check_freq(freq)
+    if r_degen < 0 or not math.isfinite(r_degen):
+        raise InputError(f"r_degen: expected a resistance >= 0 ohm, got {r_degen:g}")
+    if r_feedback is not None and (r_feedback <= 0 or not math.isfinite(r_feedback)):
+        raise InputError(f"r_feedback: expected a positive resistance in ohm, got {r_feedback:g}")
+    series = (model.rb, model.rcx, model.rex + r_degen)
+    n = 3 + sum(1 for r in series if r > 0)
+    out = np.empty((f.size, 3, 3), dtype=complex)
+    for start in range(0, f.size, FREQ_BLOCK):
+        omega = 2 * math.pi * f[start:start + FREQ_BLOCK]
+        Y = np.zeros((omega.size, n, n), dtype=complex)
+        inner = []
+        nxt = 3
+        for ext, r in enumerate(series):
+            if r > 0:
+                stamp_admittance(Y, ext, nxt, 1.0 / r)
+                inner.append(nxt)
+                nxt += 1
+            else:
+                inner.append(ext)
+        model.intrinsic_stamp(omega, Y, *inner)
+        if r_feedback is not None:
+            stamp_admittance(Y, 0, 1, 1.0 / r_feedback)
+        for k in range(n - 1, 2, -1):
+            Y = kron_eliminate(Y, k)
+        out[start:start + omega.size] = Y
+    return out

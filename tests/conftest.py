@@ -1,0 +1,46 @@
+"""Shared test helpers."""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+
+from devmodels.cli import main
+
+
+@pytest.fixture
+def run(capsys):
+    """Run the command line in-process: returns (exit status, stdout, stderr)."""
+
+    def _run(*args: str):
+        code = main(list(args))
+        out, err = capsys.readouterr()
+        return code, out, err
+
+    return _run
+
+
+@pytest.fixture
+def run_json(run):
+    """Run a command with --json and return the parsed object (asserting exit 0)."""
+
+    def _run(*args: str):
+        code, out, err = run(*args, "--json")
+        assert code == 0, err
+        return json.loads(out)
+
+    return _run
+
+
+def cx(pair):
+    """JSON [re, im] -> complex."""
+    return complex(pair[0], pair[1])
+
+
+def random_twoports(rng: np.random.Generator, n: int, scale=(50.0, 50.0)) -> np.ndarray:
+    """Random well-conditioned impedance matrices (ohm), shape (n, 2, 2)."""
+    z = rng.normal(size=(n, 2, 2)) + 1j * rng.normal(size=(n, 2, 2))
+    z += 3 * np.eye(2)
+    return z * np.sqrt(np.outer(scale, scale))

@@ -1,0 +1,96 @@
+"""Bias points and device models: relations, refusals, hybrid-pi against T."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+import devmodels as dm
+from devmodels.indefinite import device_indefinite
+
+
+def test_thermal_voltage_at_300K():
+    # VT = kT/q with the exact SI values (BIPM SI Brochure, 9th ed., 2019):
+    # 1.380649e-23 * 300 / 1.602176634e-19 = 25.852 mV.
+    assert dm.thermal_voltage(300.0) == pytest.approx(25.852e-3, abs=5e-7)
+
+
+def test_hybrid_pi_relations():
+    # gm = IC/VT, r_pi = beta/gm, ro = VA/IC, C_pi = gm/(2 pi fT) - C_mu
+    # (Sedra and Smith, Microelectronic Circuits, BJT small-signal model; from memory).
+    b = dm.BipolarBias(ic=2e-3, vce=5.0, beta=150, va=100.0, ft=400e6, cmu=1.5e-12, rb=40.0)
+    m = dm.HybridPi.from_bias(b)
+    vt = dm.thermal_voltage(300.0)
+    assert m.gm == pytest.approx(2e-3 / vt)
+    assert m.r_pi == pytest.approx(150 / m.gm)
+    assert m.ro == pytest.approx(100.0 / 2e-3)
+    assert m.c_pi == pytest.approx(m.gm / (2 * math.pi * 400e6) - 1.5e-12)
+    assert m.ft == pytest.approx(400e6)
+    assert m.f_beta == pytest.approx(400e6 / 150)
+    assert m.alpha == pytest.approx(150 / 151)
+    assert m.re == pytest.approx(m.alpha / m.gm)
+
+
+def test_no_early_voltage_means_infinite_ro():
+    m = dm.HybridPi.from_bias(dm.BipolarBias(ic=1e-3, vce=5.0, beta=100))
+    assert math.isinf(m.ro) and m.c_pi == 0 and m.ft is None
+
+
+def test_pnp_takes_magnitudes_or_signs():
+    a = dm.BipolarBias(ic=-1e-3, vce=-5.0, beta=100, device="pnp")
+    b = dm.BipolarBias(ic=1e-3, vce=5.0, beta=100, device="pnp")
+    assert a == b and a.ic == 1e-3
+    with pytest.raises(dm.BiasError):
+        dm.BipolarBias(ic=-1e-3, vce=5.0, beta=100, device="pnp")
+
+
+@pytest.mark.parametrize("kwargs,match", [
+    (dict(ic=-1e-3), "ic: expected a positive"),
+    (dict(ic=0.0), "ic: expected a positive"),
+    (dict(vce=0.1), "below the saturation threshold"),
+    (dict(beta=0), "beta: expected a positive"),
+    (dict(ft=-1e6), "ft: expected a positive"),
+    (dict(ft=0.0), "ft: expected a positive"),
+    (dict(cmu=-1e-12), "cmu: expected a value >= 0"),
+    (dict(device="triode"), "device"),
+    (dict(temp=0), "temp"),
+])
+def test_bias_refusals(kwargs, match):
+    base = dict(ic=1e-3, vce=5.0, beta=100)
+    base.update(kwargs)
+    with pytest.raises(dm.DevModelsError, match=match):
+        dm.BipolarBias(**base)
+
+
+def test_vce_sat_threshold_is_adjustable():
+    dm.BipolarBias(ic=1e-3, vce=0.25, beta=100, vce_sat=0.2)
+    with pytest.raises(dm.BiasError):
+        dm.BipolarBias(ic=1e-3, vce=0.25, beta=100)
+
+
+def test_negative_c_pi_is_an_input_error():
+    b = dm.BipolarBias(ic=0.1e-3, vce=5.0, beta=100, ft=1e9, cmu=2e-12)
+    with pytest.raises(dm.BiasError, match="ft: .* too high for cmu"):
+        dm.HybridPi.from_bias(b)
+
+
+@pytest.mark.parametrize("extras", [
+    dict(),
+    dict(rb=75.0),
+    dict(rb=75.0, rcx=12.0, rex=2.0, rmu=5e7),
+])
+def test_hybrid_pi_and_t_model_terminal_admittances_agree(extras):
+    # The T model (emitter branch re || C_e, source alpha(jw) i_e) and the hybrid-pi are
+    # two forms of one network (Gray, Hurst, Lewis and Meyer, ch. 1; from memory): their
+    # indefinite admittance matrices must agree at every frequency.
+    b = dm.BipolarBias(ic=3e-3, vce=6.0, beta=120, va=70.0, ft=600e6, cmu=1.2e-12, **extras)
+    hp = dm.HybridPi.from_bias(b)
+    t = dm.TModel.from_bias(b)
+    f = np.logspace(0, 10.5, 200)
+    for rdeg, rfb in ((0.0, None), (33.0, 22e3)):
+        a = device_indefinite(hp, f, r_degen=rdeg, r_feedback=rfb)
+        c = device_indefinite(t, f, r_degen=rdeg, r_feedback=rfb)
+        scale = np.abs(a).max(axis=(1, 2))[:, None, None]
+        assert np.max(np.abs(a - c) / scale) < 1e-12
