@@ -1,0 +1,78 @@
+"""Start-up time of the command line and of ``import devmodels``, against floors.
+
+Floors measured in the same run: a minimal typer app with one command that imports
+numpy and prints a number (the least any typer-based numeric tool can do), and a bare
+``import numpy``. Targets: ``devmodels model ... --json`` at most 1.3 times the first,
+``import devmodels`` at most 1.2 times the second.
+
+    python3 benchmarks/bench_startup.py [--repeat 11]
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+FLOOR_APP = '''
+import typer
+import numpy as np
+
+app = typer.Typer()
+
+
+@app.command()
+def run(x: float = 1.0):
+    print(float(np.sqrt(x)))
+
+
+@app.command()
+def other():
+    pass
+
+
+if __name__ == "__main__":
+    app()
+'''
+
+
+def median_run(cmd, repeat):
+    times = []
+    for _ in range(repeat):
+        t = time.perf_counter()
+        subprocess.run(cmd, capture_output=True, check=True)
+        times.append(time.perf_counter() - t)
+    return statistics.median(times)
+
+
+def measure(repeat: int = 11) -> list[tuple[str, float, float, float, str]]:
+    """Rows (name, devmodels s, reference s, ratio, target)."""
+    py = sys.executable
+    with tempfile.TemporaryDirectory() as d:
+        app = Path(d) / "floor_app.py"
+        app.write_text(FLOOR_APP)
+        median_run([py, str(app), "run", "--x", "4"], 2)  # warm the file cache
+        floor = median_run([py, str(app), "run", "--x", "4"], repeat)
+    dm_cmd = [py, "-m", "devmodels", "model", "--ic", "1mA", "--vce", "5V", "--beta", "100", "--json"]
+    median_run(dm_cmd, 2)
+    cli = median_run(dm_cmd, repeat)
+    np_t = median_run([py, "-c", "import numpy"], repeat)
+    dm_t = median_run([py, "-c", "import devmodels"], repeat)
+    return [("devmodels model (one small job) / minimal typer+numpy app", cli, floor, cli / floor, "<= 1.3"),
+            ("import devmodels / import numpy", dm_t, np_t, dm_t / np_t, "<= 1.2")]
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--repeat", type=int, default=11)
+    args = ap.parse_args()
+    for name, a, b, r, target in measure(args.repeat):
+        print(f"{name}: {a * 1e3:.0f} ms vs {b * 1e3:.0f} ms, ratio {r:.2f} (target {target})")
+
+
+if __name__ == "__main__":
+    main()
