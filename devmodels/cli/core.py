@@ -97,7 +97,7 @@ def _stage_or_given(bias_in: BiasInputs, given: str | None, config: str, freq, z
 def params_cmd(bias_in: BiasInputs, config: ConfigOpt = "ce", kind: KindOpt = "y",
                freq: FreqOpt = None, z0: Z0Opt = "50", given: ParamsOpt = None,
                polar: PolarOpt = False, as_json: JsonOpt = False) -> None:
-    """Two-port parameters of a stage (or of a given two-port) in any kind, at each frequency."""
+    """Two-port parameters of a stage (or of a given two-port) in any kind, at each --freq (default 1 kHz)."""
     kind = _check_kind(kind)
     z0v = parse_z0(z0)
     tp = _stage_or_given(bias_in, given, config, parse_freqs(freq), z0v).to(kind, z0v)
