@@ -105,6 +105,18 @@ class Terminated:
     def __len__(self) -> int:
         return self.av.shape[0]
 
+    @property
+    def unconditional(self) -> np.ndarray:
+        """True where the two-port is unconditionally stable (mu > 1; Edwards and Sinsky 1992).
+
+        Equivalent to K > 1 together with |Delta| < 1.  Where K > 1 but |Delta| >= 1,
+        ``msg_db`` still holds the MAG formula (as scikit-rf's ``max_gain`` does), but the
+        simultaneous conjugate match it assumes needs a termination outside the Smith chart
+        (|Gamma| > 1), so that gain cannot be reached with passive terminations.
+        """
+        with np.errstate(invalid="ignore"):
+            return self.mu > 1
+
 
 def to_db(power_ratio: np.ndarray) -> np.ndarray:
     """10 log10 of a power ratio; NaN where it is not positive and finite."""

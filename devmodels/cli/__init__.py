@@ -11,6 +11,7 @@ import sys
 
 from .app import app
 from . import core  # noqa: F401  (registers commands)
+from . import terminated  # noqa: F401
 
 __all__ = ["app", "main"]
 

@@ -1,0 +1,146 @@
+"""Plots of terminated-analysis results (matplotlib, Agg backend, imported only when called).
+
+The functions take result objects (:class:`~devmodels.analysis.Terminated`,
+:class:`~devmodels.twoport.TwoPort`, :class:`~devmodels.figures.FrequencyFigures`) and only
+draw them; nothing here computes a physical quantity.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+from .exceptions import InputError
+
+__all__ = ["plot_report", "PLOT_SUFFIXES"]
+
+PLOT_SUFFIXES = (".png", ".svg")
+_COLORS = {"ce": "tab:blue", "cb": "tab:orange", "cc": "tab:green",
+           "cs": "tab:blue", "cg": "tab:orange", "cd": "tab:green"}
+
+
+def _check_path(path) -> Path:
+    p = Path(path)
+    if p.suffix.lower() not in PLOT_SUFFIXES:
+        raise InputError(f"plot: expected a .png or .svg file name, got {str(p)!r}")
+    if not (p.parent if str(p.parent) else Path(".")).is_dir():
+        raise InputError(f"plot: directory {str(p.parent)!r} does not exist")
+    return p
+
+
+def _db20(x: np.ndarray) -> np.ndarray:
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out = 20 * np.log10(np.abs(x))
+    return np.where(np.isfinite(out), out, np.nan)
+
+
+def _gain_axes(ax_mag, ax_ph, gains: dict) -> None:
+    for name, res in gains.items():
+        if res.freq is None:
+            continue
+        col = _COLORS.get(name)
+        label = name.upper()
+        ax_mag.semilogx(res.freq, _db20(res.avs), color=col, label=f"{label} |avs|")
+        ax_mag.semilogx(res.freq, _db20(res.av), color=col, ls="--", lw=0.9, label=f"{label} |av|")
+        ax_ph.semilogx(res.freq, np.degrees(np.unwrap(np.angle(res.avs))), color=col, label=label)
+    ax_mag.set_ylabel("voltage gain (dB)")
+    ax_mag.set_title("Terminated voltage gain")
+    ax_mag.grid(True, which="both", alpha=0.3)
+    ax_mag.legend(fontsize=7, ncol=2)
+    ax_ph.set_xlabel("frequency (Hz)")
+    ax_ph.set_ylabel("phase of avs (deg)")
+    ax_ph.set_title("Phase")
+    ax_ph.grid(True, which="both", alpha=0.3)
+    ax_ph.legend(fontsize=7)
+
+
+def _smith_axes(ax, s_ports: dict) -> None:
+    from skrf.plotting import smith
+
+    smith(ax=ax, chart_type="z", draw_labels=True)
+    for name, tp in s_ports.items():
+        col = _COLORS.get(name)
+        for (i, j), ls in (((0, 0), "-"), ((1, 1), "--")):
+            g = tp.data[:, i, j]
+            ax.plot(g.real, g.imag, color=col, ls=ls, label=f"{name.upper()} S{i + 1}{j + 1}")
+            ax.plot(g.real[:1], g.imag[:1], "o", color=col, ms=3)
+    z0 = next(iter(s_ports.values())).z0
+    ref = f"{z0[0]:g} Ω" if z0[0] == z0[1] else f"{z0[0]:g} / {z0[1]:g} Ω"
+    ax.set_title(f"S11 (solid), S22 (dashed), z0 = {ref}; dot = lowest frequency", fontsize=9)
+    ax.legend(fontsize=7, loc="lower left")
+
+
+def _h21_axes(ax, figs) -> None:
+    from .units import format_si
+
+    ax.loglog(figs.freq, np.abs(figs.h21), color="tab:purple", label="|h21| (CE device)")
+    ax.axhline(1.0, color="grey", lw=0.8)
+    if figs.ft is not None:
+        ax.axvline(figs.ft, color="tab:red", ls="--", lw=0.9)
+        ax.annotate(f"fT = {format_si(figs.ft, 'Hz')}", (figs.ft, 1.0), xytext=(6, 12), textcoords="offset points",
+                    color="tab:red", fontsize=8)
+    if figs.f_beta is not None:
+        ax.axvline(figs.f_beta, color="tab:grey", ls=":", lw=0.9)
+        ax.annotate(f"fβ = {format_si(figs.f_beta, 'Hz')}", (figs.f_beta, figs.h21_0 / np.sqrt(2)), xytext=(6, 6),
+                    textcoords="offset points", fontsize=8)
+    ax.set_xlabel("frequency (Hz)")
+    ax.set_ylabel("|h21|")
+    ax.set_title("Short-circuit current gain")
+    ax.grid(True, which="both", alpha=0.3)
+    ax.legend(fontsize=7)
+
+
+def plot_report(path, gains: dict | None = None, s_ports: dict | None = None, figures=None,
+                title: str = "") -> Path:
+    """Draw what is given into one figure and save it as PNG or SVG.
+
+    Parameters
+    ----------
+    path : str or Path
+        Output file, ``.png`` or ``.svg``.
+    gains : dict of str -> Terminated, optional
+        Terminated results over frequency by configuration: gain magnitude and phase.
+    s_ports : dict of str -> TwoPort (kind 's'), optional
+        S parameters by configuration: Smith chart of S11 and S22.
+    figures : FrequencyFigures, optional
+        |h21| of the CE device with fT marked.
+    title : str
+        Figure title.
+    """
+    p = _check_path(path)
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    panels = []
+    if gains and any(r.freq is not None and len(r) > 1 for r in gains.values()):
+        panels += ["mag", "phase"]
+    if s_ports:
+        panels.append("smith")
+    if figures is not None:
+        panels.append("h21")
+    if not panels:
+        raise InputError("plot: nothing to draw (a plot needs more than one frequency point)")
+    n = len(panels)
+    cols = 2 if n > 1 else 1
+    rows = (n + 1) // 2
+    fig = plt.figure(figsize=(6.2 * cols, 4.6 * rows), layout="constrained")
+    for k, what in enumerate(panels):
+        ax = fig.add_subplot(rows, cols, k + 1)
+        if what == "mag":
+            ax_mag = ax
+        elif what == "phase":
+            _gain_axes(ax_mag, ax, gains)
+        elif what == "smith":
+            _smith_axes(ax, s_ports)
+        else:
+            _h21_axes(ax, figures)
+    if title:
+        fig.suptitle(title, fontsize=11)
+    try:
+        fig.savefig(p, dpi=110)
+    finally:
+        plt.close(fig)
+    return p
