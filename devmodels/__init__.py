@@ -3,7 +3,7 @@
 Data flow (one module per step)::
 
     bias.BipolarBias -> models.HybridPi / TModel -> indefinite.device_indefinite (F, 3, 3)
-        -> configs / stage.Stage (ce, cb, cc) -> twoport.TwoPort + conversions.convert
+        -> configs / stage.Stage (ce, cb, cc; cs, cg, cd with fet.FetModel) -> twoport.TwoPort + conversions.convert
         -> crosscheck (against scikit-rf)
 
 All values are SI floats (A, V, ohm, F, Hz, K).  Two-port data are complex arrays of
@@ -18,6 +18,8 @@ from .configs import CONFIG_TERMINALS, config_y, indefinite_from_y, reconfigure
 from .constants import BOLTZMANN, ELEMENTARY_CHARGE, KINDS, thermal_voltage
 from .conversions import convert
 from .verify import CrossCheck, crosscheck
+from .chain import Connection, analyse_chain, cascade, connect
+from .fet import FetModel, JfetBias, MosfetBias
 from .exceptions import (BiasError, DevModelsError, FileFormatError, InputError,
                          SingularParameterError)
 from .indefinite import device_indefinite
@@ -32,4 +34,5 @@ __all__ = [
     "reconfigure", "config_y", "indefinite_from_y", "device_indefinite", "crosscheck", "CrossCheck",
     "CONFIG_TERMINALS", "KINDS", "BOLTZMANN", "ELEMENTARY_CHARGE", "thermal_voltage",
     "DevModelsError", "InputError", "BiasError", "SingularParameterError", "FileFormatError",
+    "MosfetBias", "JfetBias", "FetModel", "cascade", "connect", "Connection", "analyse_chain",
 ]

@@ -1,0 +1,408 @@
+r"""Field-effect transistors: square-law bias points and the small-signal model.
+
+MOSFET (``nmos``, ``pmos``) in saturation, with the convention
+
+.. math::
+    I_D = \frac{k_n}{2} V_{ov}^2,\qquad k_n = \mu C_{ox} W/L,\qquad V_{ov} = V_{GS} - V_t,
+
+so that (Sedra and Smith, *Microelectronic Circuits*, MOSFET chapter; Razavi, *Design of
+Analog CMOS Integrated Circuits*, ch. 2; both from memory)
+
+.. math::
+    g_m = \frac{2 I_D}{V_{ov}} = \sqrt{2 k_n I_D} = k_n V_{ov},\qquad
+    r_o = \frac{1}{\lambda I_D},\qquad
+    g_{mb} = \frac{\gamma\, g_m}{2\sqrt{2\phi_F + V_{SB}}} .
+
+No ``lambda``: ro infinite.  No ``gamma``: no body effect (gmb = 0).  The surface
+potential :math:`2\phi_F` defaults to 0.7 V (common practice, no source).
+
+JFET (``njfet``, ``pjfet``), Shockley's square law (Shockley, "A unipolar field-effect
+transistor", Proc. IRE 40, 1952; the forms below are in Sedra and Smith, JFET section,
+from memory):
+
+.. math::
+    I_D = I_{DSS}\left(1 - \frac{V_{GS}}{V_P}\right)^2,\qquad
+    g_m = \frac{2 I_{DSS}}{|V_P|}\left(1 - \frac{V_{GS}}{V_P}\right)
+        = \frac{2}{|V_P|}\sqrt{I_D I_{DSS}},
+
+and the overdrive :math:`V_{ov} = |V_{GS} - V_P| = |V_P|\sqrt{I_D/I_{DSS}}`, so
+:math:`g_m = 2 I_D / V_{ov}` holds for both families.  Saturation needs
+:math:`|V_{DS}| \ge V_{ov}` for both.
+
+Small-signal model (node order g, d, s; the body b of a MOSFET is at AC ground, which
+in a stage is the common terminal of the configuration): gate resistance ``rg`` in
+series with the gate, Cgs (g'-s'), Cgd (g'-d'), ro (d'-s'), gm v_g's' and gmb v_bs'
+from d' to s', Csb (s'-b), Cdb (d'-b), drain and source ohmic resistances ``rdx``,
+``rsx``.  A p-channel device has the same small-signal model as an n-channel one.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+
+from .biasfile import register_keys
+from .constants import BJT_CONFIGS, FET_CONFIGS
+from .exceptions import BiasError, InputError
+from .indefinite import FREQ_BLOCK, check_freq, kron_eliminate, stamp_admittance, stamp_vccs
+
+__all__ = ["MosfetBias", "JfetBias", "FetModel", "FET_DEVICES", "DEFAULT_SURFACE_POTENTIAL",
+           "check_device_config", "is_fet_model"]
+
+#: FET device types.
+FET_DEVICES: tuple[str, ...] = ("nmos", "pmos", "njfet", "pjfet")
+#: Default surface potential 2 phi_F in V (common practice, no source: 0.6 V to 0.8 V is usual).
+DEFAULT_SURFACE_POTENTIAL = 0.7
+
+_INF = math.inf
+
+# Bias-file keys of FETs (option names without dashes; 'lambda' is the channel-length modulation).
+register_keys({"id": "A", "vds": "V", "vov": "V", "kn": "A/V2", "lambda": "1/V", "gamma": "V0.5",
+               "vsb": "V", "phi": "V", "cgs": "F", "cgd": "F", "csb": "F", "cdb": "F", "idss": "A",
+               "vp": "V", "rg": "Ohm"})
+
+
+def _num(name: str, value, unit: str, *, positive=False, nonneg=False, optional=False) -> float | None:
+    if value is None:
+        if optional:
+            return None
+        raise InputError(f"{name}: a value is required ({unit})")
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise InputError(f"{name}: expected a number in {unit}, got {value!r}") from None
+    if not math.isfinite(v):
+        raise InputError(f"{name}: expected a finite value in {unit}, got {value!r}")
+    if positive and v <= 0:
+        raise InputError(f"{name}: expected a positive value in {unit}, got {v:g}")
+    if nonneg and v < 0:
+        raise InputError(f"{name}: expected a value >= 0 in {unit}, got {v:g}")
+    return v
+
+
+def _magnitudes(device: str, p_type: bool, id_: float, vds: float) -> tuple[float, float]:
+    """ID and VDS as magnitudes; a p-channel device may give both with its (negative) sign."""
+    if p_type and id_ < 0 and vds <= 0:
+        return -id_, -vds
+    if p_type and (id_ < 0) != (vds < 0):
+        raise BiasError(f"id, vds: for a {device} give both as magnitudes or both with the "
+                        f"p-channel sign, got id={id_:g} A, vds={vds:g} V")
+    return id_, vds
+
+
+def _check_common(obj, device_set: tuple[str, ...], family: str) -> None:
+    if obj.device not in device_set:
+        raise InputError(f"device: expected {' or '.join(device_set)} for a {family} bias point, "
+                         f"got {obj.device!r}")
+    id_ = _num("id", obj.id, "A")
+    vds = _num("vds", obj.vds, "V")
+    id_, vds = _magnitudes(obj.device, obj.device.startswith("p"), id_, vds)
+    if id_ <= 0:
+        raise BiasError(f"id: expected a positive drain current in A, got {id_:g} "
+                        "(not a saturation-region bias point)")
+    if vds <= 0:
+        raise BiasError(f"vds: expected a positive drain-source voltage in V, got {vds:g} "
+                        "(not a saturation-region bias point)")
+    object.__setattr__(obj, "id", id_)
+    object.__setattr__(obj, "vds", vds)
+    for name in ("cgs", "cgd", "csb", "cdb", "rg"):
+        unit = "ohm" if name == "rg" else "F"
+        object.__setattr__(obj, name, _num(name, getattr(obj, name), unit, nonneg=True))
+    object.__setattr__(obj, "lambda_", _num("lambda", obj.lambda_, "1/V", positive=True, optional=True))
+
+
+def _check_saturation(vds: float, vov: float) -> None:
+    if vds < vov:
+        raise BiasError(f"vds: {vds:g} V is below the overdrive voltage vov = {vov:g} V "
+                        "(triode region, not a saturation-region bias point)")
+
+
+@dataclass(frozen=True, slots=True)
+class MosfetBias:
+    """Bias point of a MOSFET in saturation, SI units.
+
+    Parameters
+    ----------
+    id : float
+        Drain current magnitude in A (a pmos may give ``id`` and ``vds`` both negative).
+    vds : float
+        Drain-source voltage magnitude in V.
+    device : {'nmos', 'pmos'}
+        Channel type.
+    vov : float or None
+        Overdrive voltage |VGS| - |Vt| in V.  Give ``vov`` or ``kn``, not both.
+    kn : float or None
+        Transconductance parameter mu Cox W/L in A/V^2, with ID = (kn/2) Vov^2.
+    lambda_ : float or None
+        Channel-length modulation in 1/V (``None``: ro infinite).
+    gamma : float or None
+        Body-effect coefficient in V^0.5 (``None``: no body effect).
+    vsb : float
+        Source-body voltage magnitude in V (>= 0, reverse bias).
+    phi : float
+        Surface potential 2 phi_F in V.
+    cgs, cgd, csb, cdb : float
+        Capacitances in F.
+    rg : float
+        Gate resistance in ohm.
+    """
+
+    id: float
+    vds: float
+    device: Literal["nmos", "pmos"] = "nmos"
+    vov: float | None = None
+    kn: float | None = None
+    lambda_: float | None = None
+    gamma: float | None = None
+    vsb: float = 0.0
+    phi: float = DEFAULT_SURFACE_POTENTIAL
+    cgs: float = 0.0
+    cgd: float = 0.0
+    csb: float = 0.0
+    cdb: float = 0.0
+    rg: float = 0.0
+
+    def __post_init__(self) -> None:
+        _check_common(self, ("nmos", "pmos"), "MOSFET")
+        vov = _num("vov", self.vov, "V", positive=True, optional=True)
+        kn = _num("kn", self.kn, "A/V^2", positive=True, optional=True)
+        if vov is not None and kn is not None:
+            raise InputError("vov, kn: give one of them (the overdrive or the transconductance "
+                             "parameter), not both")
+        if vov is None and kn is None:
+            raise InputError("vov: missing; give the overdrive voltage vov (V) or the "
+                             "transconductance parameter kn (A/V^2)")
+        if vov is None:
+            vov = math.sqrt(2 * self.id / kn)  # ID = (kn/2) Vov^2
+        _check_saturation(self.vds, vov)
+        object.__setattr__(self, "vov", vov)
+        object.__setattr__(self, "kn", kn)
+        object.__setattr__(self, "gamma", _num("gamma", self.gamma, "V^0.5", nonneg=True, optional=True))
+        vsb = _num("vsb", self.vsb, "V")
+        if self.device == "pmos":
+            vsb = abs(vsb)
+        if vsb < 0:
+            raise BiasError(f"vsb: expected a source-body voltage >= 0 V (body reverse biased), got {vsb:g}")
+        object.__setattr__(self, "vsb", vsb)
+        object.__setattr__(self, "phi", _num("phi", self.phi, "V", positive=True))
+
+
+@dataclass(frozen=True, slots=True)
+class JfetBias:
+    """Bias point of a JFET in saturation, SI units.
+
+    Parameters
+    ----------
+    id : float
+        Drain current magnitude in A, 0 < id <= idss.
+    vds : float
+        Drain-source voltage magnitude in V.
+    idss : float
+        Drain current at VGS = 0 in A.
+    vp : float
+        Pinch-off voltage in V (negative for an n-channel device, positive for a p-channel
+        one; only its magnitude is used).
+    device : {'njfet', 'pjfet'}
+        Channel type.
+    lambda_ : float or None
+        Channel-length modulation in 1/V (``None``: ro infinite).
+    cgs, cgd, csb, cdb : float
+        Capacitances in F (csb, cdb: source and drain to substrate, usually 0).
+    rg : float
+        Gate resistance in ohm.
+    """
+
+    id: float
+    vds: float
+    idss: float
+    vp: float
+    device: Literal["njfet", "pjfet"] = "njfet"
+    lambda_: float | None = None
+    cgs: float = 0.0
+    cgd: float = 0.0
+    csb: float = 0.0
+    cdb: float = 0.0
+    rg: float = 0.0
+
+    def __post_init__(self) -> None:
+        _check_common(self, ("njfet", "pjfet"), "JFET")
+        idss = _num("idss", self.idss, "A", positive=True)
+        vp = _num("vp", self.vp, "V")
+        if vp == 0:
+            raise InputError("vp: expected a nonzero pinch-off voltage in V, got 0")
+        if self.id > idss:
+            raise BiasError(f"id: {self.id:g} A is above idss = {idss:g} A "
+                            "(the gate junction would be forward biased)")
+        object.__setattr__(self, "idss", idss)
+        object.__setattr__(self, "vp", vp)
+        _check_saturation(self.vds, self.vov)
+
+    @property
+    def vov(self) -> float:
+        """Overdrive |VGS - VP| = |VP| sqrt(ID/IDSS) in V."""
+        return abs(self.vp) * math.sqrt(self.id / self.idss)
+
+    @property
+    def vgs(self) -> float:
+        """Gate-source voltage VP (1 - sqrt(ID/IDSS)) in V, with the sign of VP."""
+        return self.vp * (1.0 - math.sqrt(self.id / self.idss))
+
+
+@dataclass(frozen=True, slots=True)
+class FetModel:
+    """Small-signal model of a FET (MOSFET or JFET), SI units.
+
+    Parameters
+    ----------
+    gm : float
+        Transconductance in S.
+    gmb : float
+        Body transconductance in S (0: no body effect; always 0 for a JFET).
+    ro : float
+        Output resistance in ohm (``math.inf`` for none).
+    cgs, cgd, csb, cdb : float
+        Capacitances in F.
+    rg, rdx, rsx : float
+        Gate, drain and source series resistances in ohm.
+    device : str
+        ``nmos``, ``pmos``, ``njfet`` or ``pjfet``.
+    vov : float or None
+        Overdrive voltage at the bias point in V.
+    """
+
+    gm: float
+    gmb: float = 0.0
+    ro: float = _INF
+    cgs: float = 0.0
+    cgd: float = 0.0
+    csb: float = 0.0
+    cdb: float = 0.0
+    rg: float = 0.0
+    rdx: float = 0.0
+    rsx: float = 0.0
+    device: str = "nmos"
+    vov: float | None = None
+
+    def __post_init__(self) -> None:
+        _num("gm", self.gm, "S", positive=True)
+        _num("gmb", self.gmb, "S", nonneg=True)
+        if not (self.ro > 0):
+            raise InputError(f"ro: expected a positive resistance in ohm, got {self.ro:g}")
+        for name in ("cgs", "cgd", "csb", "cdb", "rg", "rdx", "rsx"):
+            _num(name, getattr(self, name), "SI units", nonneg=True)
+        if self.device not in FET_DEVICES:
+            raise InputError(f"device: expected one of {', '.join(FET_DEVICES)}, got {self.device!r}")
+
+    @classmethod
+    def from_bias(cls, bias: MosfetBias | JfetBias) -> "FetModel":
+        """Element values at a bias point (relations in the module docstring)."""
+        ro = _INF if bias.lambda_ is None else 1.0 / (bias.lambda_ * bias.id)
+        if isinstance(bias, MosfetBias):
+            gm = 2 * bias.id / bias.vov
+            gmb = 0.0 if bias.gamma is None else bias.gamma * gm / (2 * math.sqrt(bias.phi + bias.vsb))
+        elif isinstance(bias, JfetBias):
+            gm = 2.0 / abs(bias.vp) * math.sqrt(bias.id * bias.idss)
+            gmb = 0.0
+        else:
+            raise InputError(f"bias: expected a MosfetBias or a JfetBias, got {type(bias).__name__}")
+        return cls(gm=gm, gmb=gmb, ro=ro, cgs=bias.cgs, cgd=bias.cgd, csb=bias.csb, cdb=bias.cdb,
+                   rg=bias.rg, device=bias.device, vov=bias.vov)
+
+    @property
+    def is_jfet(self) -> bool:
+        return self.device.endswith("jfet")
+
+    @property
+    def ft(self) -> float | None:
+        """Transition frequency gm / (2 pi (Cgs + Cgd)) in Hz; ``None`` without capacitance."""
+        c = self.cgs + self.cgd
+        return None if c <= 0 else self.gm / (2 * math.pi * c)
+
+    @property
+    def intrinsic_gain(self) -> float:
+        """gm ro (``math.inf`` without ro)."""
+        return self.gm * self.ro
+
+    def indefinite_for_config(self, freq, config: str, *, r_degen: float = 0.0,
+                              r_feedback: float | None = None) -> np.ndarray:
+        """Indefinite admittance matrix (F, 3, 3), node order (g, d, s), in S.
+
+        The body is tied to the common terminal of ``config`` (AC ground), so the result
+        depends on the configuration when gmb, Csb or Cdb are present.  Used by
+        :class:`devmodels.stage.Stage`.
+
+        Parameters
+        ----------
+        freq : array_like
+            Frequencies in Hz, shape (F,).
+        config : {'cs', 'cg', 'cd'}
+            Configuration.
+        r_degen : float
+            External source resistance in ohm (in series with the source terminal).
+        r_feedback : float or None
+            External drain-gate resistance in ohm (``None``: none).
+        """
+        check_device_config(self, config)
+        f = check_freq(freq)
+        if r_degen < 0 or not math.isfinite(r_degen):
+            raise InputError(f"r_degen: expected a resistance >= 0 ohm, got {r_degen:g}")
+        if r_feedback is not None and (r_feedback <= 0 or not math.isfinite(r_feedback)):
+            raise InputError(f"r_feedback: expected a positive resistance in ohm, got {r_feedback:g}")
+        from .configs import CONFIG_TERMINALS
+
+        common = CONFIG_TERMINALS[config][2]
+        # Nodes: 0 g, 1 d, 2 s (terminals), then internal g', d', s' where a series resistance exists.
+        # The body is the common terminal itself.
+        series = (self.rg, self.rdx, self.rsx + r_degen)
+        n = 3 + sum(1 for r in series if r > 0)
+        out = np.empty((f.size, 3, 3), dtype=complex)
+        for start in range(0, f.size, FREQ_BLOCK):
+            jw = 2j * math.pi * f[start:start + FREQ_BLOCK]
+            Y = np.zeros((jw.size, n, n), dtype=complex)
+            inner, nxt = [], 3
+            for ext, r in enumerate(series):
+                if r > 0:
+                    stamp_admittance(Y, ext, nxt, 1.0 / r)
+                    inner.append(nxt)
+                    nxt += 1
+                else:
+                    inner.append(ext)
+            g, d, s = inner
+            b = common
+            stamp_admittance(Y, g, s, jw * self.cgs)
+            stamp_admittance(Y, g, d, jw * self.cgd)
+            if not math.isinf(self.ro):
+                stamp_admittance(Y, d, s, 1.0 / self.ro)
+            stamp_vccs(Y, d, s, g, s, self.gm)
+            if self.gmb:
+                stamp_vccs(Y, d, s, b, s, self.gmb)
+            stamp_admittance(Y, s, b, jw * self.csb)
+            stamp_admittance(Y, d, b, jw * self.cdb)
+            if r_feedback is not None:
+                stamp_admittance(Y, 0, 1, 1.0 / r_feedback)
+            for k in range(n - 1, 2, -1):
+                Y = kron_eliminate(Y, k)
+            out[start:start + jw.size] = Y
+        return out
+
+
+def is_fet_model(model) -> bool:
+    """True for a :class:`FetModel`."""
+    return isinstance(model, FetModel)
+
+
+def check_device_config(model, config: str) -> str:
+    """Refuse a configuration of the wrong family: cs/cg/cd for FETs, ce/cb/cc for bipolars."""
+    if is_fet_model(model):
+        if config in BJT_CONFIGS:
+            raise InputError(f"config: {config!r} is a bipolar configuration; for a FET "
+                             f"({model.device}) use {', '.join(FET_CONFIGS)}")
+        if config not in FET_CONFIGS:
+            raise InputError(f"config: unknown configuration {config!r}, expected one of {', '.join(FET_CONFIGS)}")
+    elif config in FET_CONFIGS:
+        raise InputError(f"config: {config!r} is a FET configuration; for a bipolar device use "
+                         f"{', '.join(BJT_CONFIGS)}")
+    return config
