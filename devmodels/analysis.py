@@ -155,8 +155,9 @@ def stability_arrays(s: np.ndarray) -> dict[str, np.ndarray]:
     p = np.abs(s12 * s21)
     num = 1 - np.abs(s11) ** 2 - np.abs(s22) ** 2 + np.abs(delta) ** 2
     k = np.where(p > 0, num / np.where(p > 0, 2 * p, 1.0), np.nan)
-    mu = (1 - np.abs(s11) ** 2) / (np.abs(s22 - delta * np.conj(s11)) + p)
-    mu_p = (1 - np.abs(s22) ** 2) / (np.abs(s11 - delta * np.conj(s22)) + p)
+    with np.errstate(invalid="ignore", divide="ignore"):  # 0/0: a lossless port, mu does not exist
+        mu = (1 - np.abs(s11) ** 2) / (np.abs(s22 - delta * np.conj(s11)) + p)
+        mu_p = (1 - np.abs(s22) ** 2) / (np.abs(s11 - delta * np.conj(s22)) + p)
     ratio = np.where(np.abs(s12) > 0, np.abs(s21) / np.where(np.abs(s12) > 0, np.abs(s12), 1.0), np.nan)
     with np.errstate(invalid="ignore"):
         mag = ratio * (k - np.sqrt(np.where(k > 1, k * k - 1, 0.0)))
