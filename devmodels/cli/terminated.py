@@ -112,7 +112,7 @@ def read_touchstone(path: Path, freq: np.ndarray | None, config: str | None = No
             net = skrf.Network(str(p))
     except Exception as exc:  # noqa: BLE001 - any parser failure is a malformed file
         msg = " ".join(str(exc).split())[:160] or type(exc).__name__
-        raise FileFormatError(f"touchstone: cannot read {p.name}: {msg}") from None
+        raise FileFormatError(f"touchstone: cannot read {p.name}: not a valid Touchstone file ({msg})") from None
     if net.nports != 2:
         raise FileFormatError(f"touchstone: {p.name} holds a {net.nports}-port; expected a two-port")
     f = np.asarray(net.f, dtype=float)
@@ -454,8 +454,17 @@ def sweep_cmd(bias_in: BiasInputs, config: ConfigOpt = "ce",
 
         comment = (f"devmodels sweep: {config.upper()} stage, {f.size} points, "
                    f"{format_si(float(f[0]), 'Hz')} to {format_si(float(f[-1]), 'Hz')}")
-        written = write_by_extension(tp, out, polar=polar, version=ts_version, comment=comment,
-                                     extra_json={"figures": jsonable(fig_json)})
+        def write():
+            return write_by_extension(tp, out, polar=polar, version=ts_version, comment=comment,
+                                      extra_json={"figures": jsonable(fig_json)})
+
+        if progress:
+            from rich.console import Console
+
+            with Console(stderr=True).status(f"writing {out}"):
+                written = write()
+        else:
+            written = write()
     if plot is not None:
         from ..plotting import plot_report
 

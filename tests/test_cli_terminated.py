@@ -1,0 +1,286 @@
+"""Command line: gain, compare, sweep -- outputs against the library and scikit-rf, and every error path."""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pytest
+
+import devmodels as dm
+from devmodels.analysis import terminate
+from conftest import cx
+
+BIAS = ["--ic", "1mA", "--vce", "5V", "--beta", "100", "--va", "80V", "--ft", "300MHz", "--cmu", "2pF",
+        "--rb", "50"]
+GAIN_KEYS = {"freq", "av", "avs", "ai", "zin", "zout", "gt_db", "k", "mu", "msg_db"}
+
+
+def stage(config):
+    m = dm.HybridPi.from_bias(dm.BipolarBias(ic=1e-3, vce=5.0, beta=100, va=80.0, ft=300e6, cmu=2e-12, rb=50.0))
+    return dm.Stage(m, config)
+
+
+def assert_one_line_error(run, *args, match=None):
+    code, out, err = run(*args)
+    assert code == 2, (out, err)
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("devmodels: error:"), err
+    assert "Traceback" not in err and out == ""
+    if match:
+        assert match in lines[0], lines[0]
+    return lines[0]
+
+
+# --- gain ------------------------------------------------------------------------------------
+def test_gain_json_keys_and_values_equal_the_library(run_json):
+    d = run_json("gain", *BIAS, "--config", "cb", "--rs", "75", "--rl", "2.2k", "-f", "1MHz", "-f", "100MHz")
+    assert d["config"] == "cb" and len(d["points"]) == 2
+    assert GAIN_KEYS <= set(d["points"][0])
+    res = terminate(stage("cb").two_port([1e6, 1e8], "y"), 75.0, 2.2e3)
+    for i, p in enumerate(d["points"]):
+        for k in ("av", "avs", "ai", "zin", "zout"):
+            assert cx(p[k]) == pytest.approx(complex(getattr(res, k)[i]), rel=1e-12)
+        for k in ("gt_db", "k", "mu", "msg_db"):
+            assert p[k] == pytest.approx(float(getattr(res, k)[i]), rel=1e-12)
+
+
+def test_gain_default_frequency_and_complex_terminations(run_json):
+    d = run_json("gain", *BIAS, "--rs", "50+j10", "--rl", "1k-j200")
+    assert d["points"][0]["freq"] == 1e3
+    assert d["rs"] == [50.0, 10.0] and d["rl"] == [1000.0, -200.0]
+    res = terminate(stage("ce").two_port([1e3], "y"), 50 + 10j, 1e3 - 200j)
+    assert cx(d["points"][0]["avs"]) == pytest.approx(complex(res.avs[0]), rel=1e-12)
+
+
+def test_gain_open_load_gives_null_not_nan(run, run_json):
+    d = run_json("gain", *BIAS, "--rl", "open", "-f", "1kHz")
+    p = d["points"][0]
+    assert d["rl"] is None and p["gt_db"] is None and cx(p["ai"]) == 0
+    code, out, err = run("gain", *BIAS, "--rl", "open")
+    assert code == 0 and "nan" not in out.lower() and "inf" not in out.lower() and "none" in out
+
+
+def test_gain_given_params_is_frequency_independent(run_json):
+    d = run_json("gain", "--params", "h=1.1k,2.5e-4,50,24u", "--rs", "1k", "--rl", "10k")
+    assert len(d["points"]) == 1 and d["points"][0]["freq"] is None
+    res = terminate(dm.TwoPort(None, [[1.1e3, 2.5e-4], [50, 24e-6]], "h"), 1e3, 1e4)
+    assert cx(d["points"][0]["av"]) == pytest.approx(complex(res.av[0]), rel=1e-12)
+
+
+def test_gain_table_uses_units_and_words(run):
+    code, out, err = run("gain", *BIAS, "-f", "10MHz")
+    assert code == 0 and "kΩ" in out and "dB" in out and ("MAG" in out or "MSG" in out)
+    assert "nan" not in out.lower()
+
+
+def write_s2p(path, tp, z0=50.0):
+    """An invented Touchstone 1.1 file written by hand (RI, order 11 21 12 22)."""
+    s = tp.to("s", z0).data
+    lines = ["! invented test network", f"# Hz S RI R {z0:g}"]
+    for f, m in zip(tp.freq, s):
+        vals = [m[0, 0], m[1, 0], m[0, 1], m[1, 1]]
+        lines.append(f"{float(f)!r} " + " ".join(f"{float(v.real)!r} {float(v.imag)!r}" for v in vals))
+    path.write_text("\n".join(lines) + "\n")
+
+
+def test_gain_touchstone_every_frequency_and_interpolated(run_json, tmp_path):
+    # The file is read by scikit-rf; the result equals the analysis of the same network.
+    f = np.geomspace(1e6, 1e9, 31)
+    tp = stage("ce").two_port(f, "y")
+    write_s2p(tmp_path / "dev.s2p", tp)
+    d = run_json("gain", "--touchstone", str(tmp_path / "dev.s2p"), "--rs", "50", "--rl", "500")
+    assert [p["freq"] for p in d["points"]] == pytest.approx(list(f), rel=1e-12)
+    res = terminate(tp, 50.0, 500.0)
+    got = np.array([cx(p["avs"]) for p in d["points"]])
+    np.testing.assert_allclose(got, res.avs, rtol=1e-9)
+    # --freq on a file point gives that point; between points it is interpolated
+    d = run_json("gain", "--touchstone", str(tmp_path / "dev.s2p"), "--rl", "500", "-f", repr(float(f[3])))
+    assert cx(d["points"][0]["avs"]) == pytest.approx(complex(res.avs[3]), rel=1e-9)
+
+
+def test_gain_touchstone_1_1_y_file_is_denormalised(run_json, tmp_path):
+    # A version 1.1 Y file (Y * R in the file, Touchstone 1.1 specification, from memory) is
+    # analysed like the network itself.
+    from devmodels.export import write_touchstone
+
+    f = np.geomspace(1e6, 1e9, 7)
+    tp = stage("cc").two_port(f, "y", 75.0)
+    write_touchstone(tp, tmp_path / "dev.y2p", "1.1")
+    d = run_json("gain", "--touchstone", str(tmp_path / "dev.y2p"), "--rl", "300")
+    res = terminate(tp, 50.0, 300.0)
+    np.testing.assert_allclose([cx(p["av"]) for p in d["points"]], res.av, rtol=1e-9)
+
+
+# --- compare -----------------------------------------------------------------------------------
+def test_compare_entries_equal_separate_gain_runs(run_json):
+    common = ["--rs", "600", "--rl", "4.7k", *BIAS]
+    d = run_json("compare", *common, "-f", "2MHz")
+    for c in ("ce", "cb", "cc"):
+        g = run_json("gain", *common, "--config", c, "-f", "2MHz")
+        assert d[c] == g["points"][0]
+    assert set(d["best"]) >= {"voltage_gain", "output_impedance_low", "input_impedance_high", "bandwidth"}
+
+
+def test_compare_winners_follow_textbook_roles(run, run_json):
+    # CE has the highest voltage gain, CC the lowest output and highest input impedance, CB the
+    # lowest input impedance (Sedra and Smith, comparison of the single-transistor amplifiers,
+    # from memory).
+    d = run_json("compare", *BIAS)
+    assert d["best"]["voltage_gain"] == "ce"
+    assert d["best"]["output_impedance_low"] == "cc"
+    assert d["best"]["input_impedance_high"] == "cc"
+    assert d["best"]["input_impedance_low"] == "cb"
+    code, out, err = run("compare", *BIAS)
+    assert code == 0 and "CE: highest voltage gain" in out and "CC:" in out and "CB:" in out
+
+
+# --- sweep -------------------------------------------------------------------------------------
+def test_sweep_json_as_params_with_figures(run_json):
+    d = run_json("sweep", *BIAS, "--start", "1kHz", "--stop", "10GHz", "--points", "15", "--kind", "y")
+    assert d["config"] == "ce" and d["kind"] == "y" and d["z0"] == 50.0 and len(d["points"]) == 15
+    f = [p["freq"] for p in d["points"]]
+    np.testing.assert_allclose(f, np.geomspace(1e3, 1e10, 15), rtol=1e-12)
+    y = stage("ce").two_port(f, "y").data
+    np.testing.assert_allclose([cx(p["21"]) for p in d["points"]], y[:, 1, 0], rtol=1e-12)
+    fig = d["figures"]
+    assert fig["ft"] == pytest.approx(300e6, rel=0.01)  # fT ~ gm/(2 pi (C_pi + C_mu)) (Gray and Meyer, from memory)
+    assert fig["bandwidth"] > 0 and fig["bandwidth_miller"] > 0 and fig["fmax"] > fig["ft"]
+
+
+def test_sweep_single_point_and_figures_not_reached(run_json):
+    d = run_json("sweep", *BIAS, "--start", "1MHz", "--stop", "1MHz", "--points", "1")
+    assert len(d["points"]) == 1 and d["figures"] is None
+    d = run_json("sweep", *BIAS, "--start", "1kHz", "--stop", "10kHz", "--points", "5")
+    assert d["figures"]["ft"] is None and d["figures"]["fmax"] is None
+
+
+@pytest.mark.parametrize("name", ["out.s2p", "out.ts"])
+def test_sweep_touchstone_read_back_by_scikit_rf(run, tmp_path, name):
+    # scikit-rf reads the written file; S equals the sweep's own JSON within 1e-9.
+    import skrf
+
+    path = tmp_path / name
+    code, out, err = run("sweep", *BIAS, "--points", "21", "--out", str(path))
+    assert code == 0 and "wrote Touchstone" in err
+    d = json.loads(run("sweep", *BIAS, "--points", "21", "--json")[1])
+    s = np.array([[[cx(p["11"]), cx(p["12"])], [cx(p["21"]), cx(p["22"])]] for p in d["points"]])
+    net = skrf.Network(str(path))
+    assert np.max(np.abs(net.s - s)) / np.max(np.abs(s)) < 1e-9
+
+
+def test_sweep_z_touchstone_and_csv_and_json(run, tmp_path):
+    import skrf
+
+    code, _, err = run("sweep", *BIAS, "--kind", "z", "--points", "9", "--out", str(tmp_path / "a.z2p"))
+    assert code == 0
+    z = stage("ce").two_port(np.geomspace(1e3, 1e10, 9), "z").data
+    net = skrf.Network(str(tmp_path / "a.z2p"))  # scikit-rf's Touchstone 1.x reader
+    assert np.max(np.abs(net.z - z)) / np.max(np.abs(z)) < 1e-9
+    assert run("sweep", *BIAS, "--points", "9", "--out", str(tmp_path / "a.csv"), "--polar")[0] == 0
+    assert "mag s11" in (tmp_path / "a.csv").read_text().splitlines()[1]
+    assert run("sweep", *BIAS, "--points", "9", "--out", str(tmp_path / "a.json"))[0] == 0
+    d = json.loads((tmp_path / "a.json").read_text())
+    assert d["kind"] == "s" and len(d["points"]) == 9 and "ft" in d["figures"]
+
+
+@pytest.mark.parametrize("cmd, ext", [(["sweep", "--points", "11"], ".png"), (["sweep", "--points", "11"], ".svg"),
+                                      (["compare"], ".png"), (["gain", "-f", "1MHz", "-f", "1GHz"], ".png")])
+def test_plots_are_written(run, tmp_path, cmd, ext):
+    path = tmp_path / f"plot{ext}"
+    code, out, err = run(*cmd, *BIAS, "--plot", str(path))
+    assert code == 0, err
+    head = path.read_bytes()[:8]
+    assert head.startswith(b"\x89PNG") if ext == ".png" else b"<?xml" in head or b"<svg" in head
+
+
+def test_json_mode_prints_only_json(run):
+    code, out, err = run("sweep", *BIAS, "--points", "5", "--json")
+    assert code == 0 and json.loads(out) and out.count("\n") == 1
+
+
+# --- error paths ---------------------------------------------------------------------------------
+@pytest.mark.parametrize("args, name", [
+    (["gain", *BIAS, "--rs", "-50"], "rs:"),
+    (["gain", *BIAS, "--rl", "-1k"], "rl:"),
+    (["gain", *BIAS, "--rl", "-1k+j20"], "rl:"),
+    (["gain", *BIAS, "--rs", "open"], "rs:"),
+    (["gain", *BIAS, "--rl", "lots"], "rl:"),
+    (["gain", *BIAS, "--rl", "5V"], "rl:"),
+    (["compare", *BIAS, "--rs", "-1"], "rs:"),
+    (["sweep", *BIAS, "--rl", "-1"], "rl:"),
+    (["sweep", *BIAS, "--start", "1GHz", "--stop", "1MHz"], "start:"),
+    (["sweep", *BIAS, "--start", "0", "--stop", "1MHz"], "start:"),
+    (["sweep", *BIAS, "--points", "0"], "points:"),
+    (["sweep", *BIAS, "--points", "-3"], "points:"),
+    (["sweep", *BIAS, "--kind", "q"], "kind:"),
+    (["sweep", *BIAS, "--kind", "abcd", "--out", "x.s2p"], "out:"),
+    (["sweep", *BIAS, "--out", "x.txt"], "out:"),
+    (["sweep", *BIAS, "--out", "no/such/dir/x.csv"], "out:"),
+    (["sweep", *BIAS, "--touchstone-version", "3"], "touchstone-version:"),
+    (["gain", *BIAS, "--plot", "x.pdf"], "plot:"),
+    (["gain"], "bias point:"),
+    (["compare"], "bias point:"),
+    (["sweep"], "bias point:"),
+    (["gain", *BIAS, "--params", "h=1k,0,50,1e-5"], "params:"),
+    (["gain", "--params", "h=1k,0,50,1e-5", "--touchstone", "x.s2p"], "params:"),
+    (["gain", "--config", "xx", *BIAS], "config:"),
+    (["compare", *BIAS, "-f", "1kHz,2kHz"], "freq:"),
+])
+def test_input_errors(run, args, name):
+    assert_one_line_error(run, *args, match=name)
+
+
+def test_network_without_solution(run):
+    # y11 = -1/50 S (an active input) makes Zs + zin = 0 for Rs = 50 ohm: no solution.
+    assert_one_line_error(run, "gain", "--params", "y=-20m,0,10m,10m", "--rs", "50", "--rl", "100",
+                          match="rs, rl:")
+
+
+def test_no_forward_transmission(run):
+    assert_one_line_error(run, "gain", "--params", "y=1m,1m,0,1m", match="forward transmission")
+
+
+@pytest.mark.parametrize("content, match", [
+    (None, "no such file"),
+    ("this is not a touchstone file\n1 2 3\n", "cannot read"),
+    ("# Hz S RI R 50\n1e6 0.1 0.2 0.3\n", "cannot read"),
+    ("# Hz S RI R 50\n", "no data points"),
+    ("# Hz S RI R 50+10j\n1e6 0.1 0 0.5 0 0.01 0 0.2 0\n", "complex reference"),
+    ("# Hz S RI R 50\n1e6 0.1 0 0.5 0 0.01 0 0.2 0\n1e7 nan 0 0.5 0 0.01 0 0.2 0\n", "not finite"),
+])
+def test_bad_touchstone_files(run, tmp_path, content, match):
+    path = tmp_path / "bad.s2p"
+    if content is not None:
+        path.write_text(content)
+    assert_one_line_error(run, "gain", "--touchstone", str(path), match=match)
+
+
+def test_touchstone_with_wrong_port_count_and_out_of_range_freq(run, tmp_path):
+    one = tmp_path / "one.s1p"
+    one.write_text("# Hz S RI R 50\n1e6 0.1 0.2\n2e6 0.1 0.2\n")
+    assert_one_line_error(run, "gain", "--touchstone", str(one), match="1-port")
+    two = tmp_path / "two.s2p"
+    two.write_text("# Hz S RI R 50\n1e6 0.1 0 0.5 0 0.01 0 0.2 0\n2e6 0.1 0 0.5 0 0.01 0 0.2 0\n")
+    assert_one_line_error(run, "gain", "--touchstone", str(two), "-f", "5MHz", match="freq:")
+
+
+def test_touchstone_z0_varying_with_frequency(run, tmp_path):
+    # Per-frequency port impedances as written by field solvers ("! Port Impedance" comments,
+    # read by scikit-rf); devmodels cannot represent them and says so.
+    path = tmp_path / "vary.s2p"
+    path.write_text(
+        "# Hz S RI R 50\n"
+        "! Port Impedance 50 0 50 0\n1e6 0.1 0 0.5 0 0.01 0 0.2 0\n"
+        "! Port Impedance 60 0 60 0\n2e6 0.1 0 0.5 0 0.01 0 0.2 0\n")
+    line = assert_one_line_error(run, "gain", "--touchstone", str(path))
+    assert "touchstone:" in line
+
+
+def test_no_number_output_is_nan_or_inf(run):
+    for args in (["gain", "--params", "h=1k,0,50,1e-5", "--rl", "open"], ["compare", *BIAS, "--rl", "open"]):
+        code, out, err = run(*args)
+        assert code == 0 and "nan" not in out.lower() and " inf" not in out.lower()
+        code, out, err = run(*args, "--json")
+        assert code == 0 and "NaN" not in out and "Infinity" not in out
