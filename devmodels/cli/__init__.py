@@ -10,6 +10,7 @@ from __future__ import annotations
 import sys
 
 from .app import app
+from . import biasnet  # noqa: F401  (bias, spread; the [network] hook)
 from . import core  # noqa: F401  (registers commands)
 from . import terminated  # noqa: F401
 

@@ -111,6 +111,9 @@ class BiasInputs:
 
     def bipolar(self):
         """The :class:`~devmodels.bias.BipolarBias` these inputs describe."""
+        if "network" in self.tables:  # a bias network instead of IC and VCE: solve it (cli/biasnet.py)
+            from .biasnet import network_bipolar
+            return network_bipolar(self)
         from ..bias import BipolarBias, DEFAULT_TEMP, DEFAULT_VCE_SAT
 
         device = (self.value("device", "str") or "npn").lower()

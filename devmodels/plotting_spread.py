@@ -1,0 +1,82 @@
+"""Histograms of a spread analysis (matplotlib, imported here only, Agg backend).
+
+One panel per result: the histogram of the samples, the 5th/50th/95th percentiles as
+dashed lines, and the two corner cases (every limit low, every limit high) as markers.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+
+__all__ = ["plot_spread"]
+
+#: Panels: result key, axis label.
+PANELS: tuple[tuple[str, str], ...] = (
+    ("av", "|av| = |V2/V1|"), ("avs", "|avs| = |V2/Vs|"), ("zin", "|Zin| (kΩ)"), ("zout", "|Zout| (kΩ)"),
+    ("gt_db", "GT (dB)"), ("ai", "|ai| = |-I2/I1|"), ("ic", "IC (mA)"), ("vce", "VCE (V)"),
+    ("power", "P (mW)"), ("k", "Rollett K"),
+)
+_SCALE = {"ic": 1e3, "power": 1e3, "zin": 1e-3, "zout": 1e-3}
+
+
+def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
+    """Draw the histograms of a :class:`~devmodels.spread.SpreadResult` into ``path`` (PNG).
+
+    Parameters
+    ----------
+    result : SpreadResult
+        What :func:`devmodels.spread.run_spread` returned.
+    path : str or Path
+        Output file.
+    bins : int
+        Histogram bins per panel.
+
+    Returns
+    -------
+    Path
+        The file written.
+    """
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    panels = [(k, label) for k, label in PANELS if result.stats.get(k) is not None]
+    cols = 5 if len(panels) > 6 else 3
+    rows = max(1, math.ceil(len(panels) / cols))
+    fig, axes = plt.subplots(rows, cols, figsize=(3.2 * cols, 2.7 * rows + 0.8), squeeze=False)
+    for ax in axes.flat[len(panels):]:
+        ax.set_visible(False)
+    for ax, (key, label) in zip(axes.flat, panels):
+        scale = _SCALE.get(key, 1.0)
+        v = result.values[key]
+        v = v[np.isfinite(v)] * scale
+        lo, hi = float(v.min()), float(v.max())
+        ax.hist(v, bins=bins if hi > lo else 1, color="#4c72b0", alpha=0.85)
+        st = result.stats[key]
+        for q, style in (("p5", ":"), ("p50", "--"), ("p95", ":")):
+            ax.axvline(st[q] * scale, color="#333333", linestyle=style, linewidth=1)
+        for corner, color, marker in (("min", "#c44e52", "v"), ("max", "#dd8452", "^")):
+            c = result.corners[corner][key]
+            if c is not None:
+                ax.plot([c * scale], [0], marker=marker, color=color, markersize=9, clip_on=False,
+                        linestyle="none", label=f"corner {corner}")
+        ax.set_xlabel(label)
+        ax.set_yticks([])
+        ax.tick_params(axis="x", labelsize=8)
+    axes.flat[0].legend(fontsize=7, loc="upper right", frameon=False)
+    s, r = result.setup, result.ranges
+    rl = "open" if math.isinf(s.rl) else f"{s.rl:g} Ω"
+    fig.suptitle(f"{s.config.upper()} stage at {s.freq:g} Hz, Rs = {s.rs:g} Ω, RL = {rl}: "
+                 f"{result.samples:,} samples (seed {result.seed}); beta {r.beta_min:g}..{r.beta_max:g}, "
+                 f"T {r.temp_min:.1f}..{r.temp_max:.1f} K, resistors ±{r.tol * 100:g} %\n"
+                 "dashed: median; dotted: 5th and 95th percentiles; triangles: corners (all low, all high)",
+                 fontsize=9)
+    fig.tight_layout()
+    out = Path(path)
+    fig.savefig(out, dpi=110)
+    plt.close(fig)
+    return out
