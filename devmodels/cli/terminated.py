@@ -194,7 +194,8 @@ def point_json(res, i: int) -> dict:
 def _gain_text(z: complex) -> str:
     if not (math.isfinite(z.real) and math.isfinite(z.imag)):
         return "unbounded"
-    return format_complex(z, "", 4, polar=True)
+    txt = format_complex(z, "", 4, polar=True)
+    return txt.replace("∠ -0.00°", "∠ 0.00°").replace("∠ -180.00°", "∠ 180.00°")
 
 
 def _imp_text(z: complex) -> str:
