@@ -41,9 +41,10 @@ def _gain_axes(ax_mag, ax_ph, gains: dict) -> None:
             continue
         col = _COLORS.get(name)
         label = name.upper()
-        ax_mag.semilogx(res.freq, _db20(res.avs), color=col, label=f"{label} |avs|")
+        mk = dict(marker="o", ms=3) if len(res) <= 30 else {}  # few points: show where they are
+        ax_mag.semilogx(res.freq, _db20(res.avs), color=col, label=f"{label} |avs|", **mk)
         ax_mag.semilogx(res.freq, _db20(res.av), color=col, ls="--", lw=0.9, label=f"{label} |av|")
-        ax_ph.semilogx(res.freq, np.degrees(np.unwrap(np.angle(res.avs))), color=col, label=label)
+        ax_ph.semilogx(res.freq, np.degrees(np.unwrap(np.angle(res.avs))), color=col, label=label, **mk)
     ax_mag.set_ylabel("voltage gain (dB)")
     ax_mag.set_title("Terminated voltage gain")
     ax_mag.grid(True, which="both", alpha=0.3)
