@@ -12,6 +12,7 @@ import sys
 from .app import app
 from . import biasnet  # noqa: F401  (bias, spread; the [network] hook)
 from . import core  # noqa: F401  (registers commands)
+from . import fetchain  # noqa: F401
 from . import terminated  # noqa: F401
 
 __all__ = ["app", "main"]

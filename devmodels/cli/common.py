@@ -45,6 +45,22 @@ BIAS_OPTIONS: list[tuple[str, str, str]] = [
     ("vce_sat", "V", "VCE below which the point counts as saturated, V (default 0.3 V)."),
     ("rdeg", "Ohm", "External emitter degeneration resistor, ohm (default: none)."),
     ("rfb", "Ohm", "External collector-base feedback resistor, ohm (default: none)."),
+    # FETs (device nmos, pmos, njfet, pjfet); read by cli/fetchain.fet_bias_or_none
+    ("id", "A", "FET drain current, A (e.g. 2mA)."),
+    ("vds", "V", "FET drain-source voltage, V (must be >= the overdrive)."),
+    ("vov", "V", "MOSFET overdrive |VGS| - |Vt|, V (or give --kn)."),
+    ("kn", "", "MOSFET transconductance parameter mu Cox W/L, A/V^2, with ID = (kn/2) Vov^2."),
+    ("lambda_", "", "FET channel-length modulation, 1/V (default: none, ro infinite)."),
+    ("gamma", "", "MOSFET body-effect coefficient, V^0.5 (default: none, no body effect)."),
+    ("vsb", "V", "MOSFET source-body voltage, V (default 0)."),
+    ("phi", "V", "MOSFET surface potential 2 phi_F, V (default 0.7 V)."),
+    ("cgs", "F", "FET gate-source capacitance, F (default 0)."),
+    ("cgd", "F", "FET gate-drain capacitance, F (default 0)."),
+    ("csb", "F", "MOSFET source-body capacitance, F (default 0)."),
+    ("cdb", "F", "MOSFET drain-body capacitance, F (default 0)."),
+    ("idss", "A", "JFET drain current at VGS = 0, A."),
+    ("vp", "V", "JFET pinch-off voltage, V (e.g. -2V for an n-channel)."),
+    ("rg", "Ohm", "FET gate resistance, ohm (default 0)."),
 ]
 
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print one JSON object on stdout and nothing else.")]
@@ -105,7 +121,7 @@ class BiasInputs:
     def require(self, name: str, unit: str, what: str):
         v = self.value(name, unit)
         if v is None:
-            flag = "--" + name.replace("_", "-")
+            flag = "--" + name.rstrip("_").replace("_", "-")
             raise InputError(f"{name}: missing; give {flag} or '{name}' in the bias file ({what})")
         return v
 
@@ -134,10 +150,12 @@ class BiasInputs:
         )
 
     def model(self):
-        """The small-signal device model (hybrid-pi for a bipolar device)."""
+        """The small-signal device model (hybrid-pi for a bipolar device, FetModel for a FET)."""
         from ..models import HybridPi
+        from .fetchain import fet_model_or_none
 
-        return HybridPi.from_bias(self.bipolar())
+        fet = fet_model_or_none(self)  # None for a bipolar device
+        return fet if fet is not None else HybridPi.from_bias(self.bipolar())
 
     def stage(self, config: str):
         """A :class:`~devmodels.stage.Stage` of the model in ``config`` with the external resistors."""
@@ -149,7 +167,10 @@ class BiasInputs:
             raise InputError(f"rdeg: expected a resistance >= 0 ohm, got {rdeg:g}")
         if rfb is not None and rfb <= 0:
             raise InputError(f"rfb: expected a positive resistance in ohm, got {rfb:g}")
-        return Stage(self.model(), config, rdeg, rfb)
+        from ..fet import check_device_config
+
+        model = self.model()
+        return Stage(model, check_device_config(model, config), rdeg, rfb)
 
 
 def bias_options(func: Callable) -> Callable:
@@ -170,7 +191,7 @@ def bias_options(func: Callable) -> Callable:
             show_default=False)])
     extra = []
     for name, unit, help_ in BIAS_OPTIONS:
-        flag = "--" + name.replace("_", "-")
+        flag = "--" + name.rstrip("_").replace("_", "-")
         extra.append(inspect.Parameter(
             name, inspect.Parameter.KEYWORD_ONLY, default=None,
             annotation=Annotated[Optional[str], typer.Option(flag, help=help_, rich_help_panel=PANEL,

@@ -39,7 +39,12 @@ def _no_bias_with_given(bias_in: BiasInputs, what: str) -> None:
 def model_cmd(bias_in: BiasInputs, as_json: JsonOpt = False) -> None:
     """Small-signal element values (hybrid-pi and T model) at a bias point."""
     from ..units import format_si
+    from .fetchain import fet_bias_or_none, print_fet_model
 
+    fet = fet_bias_or_none(bias_in)  # None for a bipolar device
+    if fet is not None:
+        print_fet_model(fet, as_json)
+        return
     bias = bias_in.bipolar()
     from ..models import HybridPi
 
