@@ -19,6 +19,7 @@ from __future__ import annotations
 import argparse
 import os
 import platform
+import resource
 import statistics
 import time
 import tracemalloc
@@ -93,6 +94,8 @@ def main() -> None:
           "extrapolated)")
     print(f"peak traced memory: {peak / 1e6:.1f} MB; one copy of inputs + {len(RESULTS)} stored results: "
           f"{copy_bytes / 1e6:.1f} MB (made and filled in {t_alloc:.3f} s); ratio {peak / copy_bytes:.2f}")
+    rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1e3  # kB on Linux
+    print(f"peak resident size of the whole benchmark process (ru_maxrss): {rss:.0f} MB")
     print(f"result: {n / best:,.0f} samples/s (target >= 1,000,000), peak {peak / 1e6:.0f} MB (target <= 500 MB); "
           f"regions {res.regions}")
 

@@ -379,23 +379,28 @@ def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] 
     out["beta"] = np.array(beta, dtype=float)
     if not np.any(ok):
         return out
-    gm_k, beta_k, ic_k = gm[ok], beta[ok], ic_safe[ok]
+    every = bool(ok.all())
+
+    def pick(a):  # the samples that have a small-signal point (no copy when all have)
+        return a if every or np.ndim(a) == 0 else a[ok]
+
+    gm_k, beta_k, ic_k = pick(gm), pick(beta), pick(ic_safe)
     rdeg = res.get("rdeg", 0.0)
     rfb = res.get("rfb")
     y = stage_y_arrays(
         setup.config, setup.freq, gm=gm_k, r_pi=beta_k / gm_k,
-        go=0.0 if setup.va is None else ic_k / setup.va, c_pi=c_pi[ok], c_mu=setup.cmu,
+        go=0.0 if setup.va is None else ic_k / setup.va, c_pi=pick(c_pi), c_mu=setup.cmu,
         g_mu=0.0 if setup.rmu is None else 1.0 / setup.rmu, rb=setup.rb, rcx=setup.rcx,
-        rex=setup.rex + (rdeg[ok] if np.ndim(rdeg) else rdeg),
-        g_fb=0.0 if rfb is None else 1.0 / (rfb[ok] if np.ndim(rfb) else rfb))
+        rex=setup.rex + pick(rdeg), g_fb=0.0 if rfb is None else 1.0 / pick(rfb))
     y = np.broadcast_to(y, (gm_k.size, 2, 2))
     abcd = convert(y, "y", "abcd")
     term = terminate_arrays(abcd, setup.rs, setup.rl)
     st = stability_arrays(convert(y, "y", "s", setup.z0))
+    sel = slice(None) if every else ok
     for name in ("av", "avs", "ai", "zin", "zout"):
-        out[name][ok] = np.abs(term[name])
-    out["gt_db"][ok] = term["gt_db"]
-    out["k"][ok] = st["k"]
+        out[name][sel] = np.abs(term[name])
+    out["gt_db"][sel] = term["gt_db"]
+    out["k"][sel] = st["k"]
     return out
 
 
@@ -502,7 +507,7 @@ def _corners(setup: SpreadSetup, ranges: SpreadRanges, names) -> dict:
     out = {}
     for i, label in enumerate(("min", "max", "nominal")):
         d = {"beta": float(beta[i]), "temp": float(temp[i]), "tol": float(f[i] - 1.0),
-             "region": REGIONS[r["region"][i]] if r["region"][i] < 3 else "active"}
+             "region": REGIONS[r["region"][i]] if r["region"][i] < 3 else "active (no model: C_pi < 0)"}
         for name in RESULTS:
             v = float(r[name][i])
             d[name] = v if math.isfinite(v) else None

@@ -144,7 +144,7 @@ def _opt(flag: str, help_: str, panel: str = NET_PANEL):
 @app.command("bias")
 def bias_cmd(
     bias_file: Annotated[Optional[Path], typer.Argument(
-        help="TOML file with a [network] table (type, vcc, r1, r2, rb, rc, re, tol, vbe) and flat "
+        help="TOML file with a \\[network] table (type, vcc, r1, r2, rb, rc, re, tol, vbe) and flat "
              "keys (beta, temp, device, ...).", show_default=False)] = None,
     network: _opt("--network", "Topology: fixed, divider or collector-feedback.") = None,
     vcc: _opt("--vcc", "Supply voltage, V (a pnp may take it negative).") = None,
