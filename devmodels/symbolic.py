@@ -299,8 +299,6 @@ def derive(config: str, result: str, elements=None, *, rs: bool = True, rl: bool
     -------
     Formula
     """
-    import sympy as sp
-
     if config not in BJT_CONFIGS + FET_CONFIGS:
         raise InputError(f"config: unknown configuration {config!r}, expected one of "
                          f"{', '.join(BJT_CONFIGS + FET_CONFIGS)}")

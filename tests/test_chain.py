@@ -6,7 +6,6 @@ import numpy as np
 import pytest
 
 import devmodels as dm
-from devmodels.analysis import terminate
 from devmodels.chain import analyse_chain, cascade, connect, series_element, shunt_element
 from devmodels.fet import FetModel, MosfetBias
 

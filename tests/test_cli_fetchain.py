@@ -12,7 +12,7 @@ import pytest
 import devmodels as dm
 from conftest import cx
 from devmodels.analysis import terminate
-from devmodels.fet import FetModel, JfetBias, MosfetBias
+from devmodels.fet import FetModel, MosfetBias
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "bias_examples"
 FET_EXAMPLES = sorted((EXAMPLES / "fet").glob("*.toml"))
