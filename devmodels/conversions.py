@@ -56,10 +56,10 @@ Hadamard ratio of *P* with its rows weighted to one unit,
 columns, independent of how each column is scaled.  :math:`\det P` is a constant
 multiple of the target pivot :math:`\pi` (both are the same Plücker coordinate), so the
 test costs a few absolute values.  A failing point raises
-:class:`~devmodels.exceptions.SingularParameterError`; inf or NaN is never returned.
+:class:`~devmodels.exceptions.SingularParameterError` instead of returning inf or NaN.
 
 **Speed.**  Arrays are processed in blocks of :data:`BLOCK` points (a loop over blocks,
-not over points) so that every intermediate stays in the CPU cache; each block runs the
+not over points) so that the intermediates stay in the CPU caches; each block runs the
 program with preallocated buffers (``out=``), reading the inputs and writing the outputs
 in place through strided views.  ``benchmarks/bench_convert.py`` measures it against
 scikit-rf and a plain memory copy.
@@ -84,10 +84,13 @@ __all__ = ["convert", "normalize_z0", "SINGULAR_TOL", "BLOCK"]
 #: Hadamard ratio of the pivot (|det| over the product of its column norms) below which a
 #: target set is said not to exist: the result would carry fewer than ~4 significant digits.
 SINGULAR_TOL = 1e-12
-#: Points per block: the input and output blocks (64 bytes a point each) and the ~10
-#: intermediate buffers (16 bytes a point) fit the per-core L2 cache (measured best of
-#: 1024 ... 32768 with benchmarks/bench_convert.py --block).
-BLOCK = 4096
+#: Points per block.  Each ufunc call costs about a microsecond of Python overhead, so
+#: small blocks lose time to calls; large ones spill the ~10 block buffers (16 bytes a
+#: point each) and the input and output blocks (64 bytes a point each) out of cache.
+#: 16384 was the best of 4096 ... 32768 summed over all 30 pairs (about 10% better than
+#: 4096) on a 2-core AMD EPYC (1 MB L2 per core): the working set then sits in L3.
+#: ``benchmarks/bench_convert.py --block N`` measures another value.
+BLOCK = 16384
 
 
 def normalize_z0(z0: float | Sequence[float]) -> tuple[float, float]:
@@ -122,7 +125,6 @@ def normalize_z0(z0: float | Sequence[float]) -> tuple[float, float]:
 # source, the entries of S'), det is x11 x22 - x12 x21.
 _ONE, _X11, _X12, _X21, _X22, _DET = range(6)
 _XIDX = ((_X11, _X12), (_X21, _X22))
-_ZERO_FORM = (Fraction(0),) * 6
 
 # (coordinate variable, sign) of the outputs and the inputs of each kind except s;
 # variables index x = (V1, V2, I1, I2).
@@ -137,18 +139,24 @@ _LAYOUT: dict[str, tuple[tuple[int, int], ...]] = {
 
 
 def _unit(b: int, c=1) -> tuple:
-    f = list(_ZERO_FORM)
-    f[b] = Fraction(c)
+    f = [0] * 6
+    f[b] = c
     return tuple(f)
 
 
+def _div(a, b) -> Fraction:
+    """Exact a / b (a Python int / int would give a float)."""
+    return Fraction(a) / b
+
+
 def _comb(*terms) -> tuple:
-    """Sum of c * form over the (c, form) pairs."""
-    out = [Fraction(0)] * 6
+    """Sum of c * form over the (c, form) pairs (exact: ints and Fractions)."""
+    out = [0] * 6
     for c, form in terms:
         if c:
-            for i in range(6):
-                out[i] += c * form[i]
+            for i, v in enumerate(form):
+                if v:
+                    out[i] += c * v
     return tuple(out)
 
 
@@ -159,21 +167,20 @@ def _coords(kind: str, r: tuple[float, float]) -> list[list[Fraction]]:
         return [[1, 0, -r1, 0], [0, 1, 0, -r2], [1, 0, r1, 0], [0, 1, 0, r2]]
     rows = []
     for var, sign in _LAYOUT[kind]:
-        row = [Fraction(0)] * 4
-        row[var] = Fraction(sign)
+        row = [0] * 4
+        row[var] = sign
         rows.append(row)
     return rows
 
 
 def _inverse4(t: list[list[Fraction]]) -> list[list[Fraction]]:
     """Exact inverse of a 4x4 matrix of Fractions (Gauss-Jordan with row pivoting)."""
-    a = [[Fraction(v) for v in row] + [Fraction(int(i == j)) for j in range(4)]
-         for i, row in enumerate(t)]
+    a = [list(row) + [int(i == j) for j in range(4)] for i, row in enumerate(t)]
     for col in range(4):
         piv = next(i for i in range(col, 4) if a[i][col] != 0)
         a[col], a[piv] = a[piv], a[col]
         p = a[col][col]
-        a[col] = [v / p for v in a[col]]
+        a[col] = [_div(v, p) for v in a[col]]
         for i in range(4):
             if i != col and a[i][col] != 0:
                 f = a[i][col]
@@ -182,7 +189,7 @@ def _inverse4(t: list[list[Fraction]]) -> list[list[Fraction]]:
 
 
 def _matmul4(a, b):
-    return [[sum((a[i][k] * b[k][j] for k in range(4)), Fraction(0)) for j in range(4)]
+    return [[sum(a[i][k] * b[k][j] for k in range(4) if a[i][k] and b[k][j]) for j in range(4)]
             for i in range(4)]
 
 
@@ -245,7 +252,7 @@ def _det_affine(P) -> tuple:
 def _ratio(f, g) -> Fraction:
     """The constant c with f = c * g (an internal consistency check)."""
     b = next(i for i in range(6) if g[i])
-    c = f[b] / g[b]
+    c = _div(f[b], g[b])
     if any(fi != c * gi for fi, gi in zip(f, g)):
         raise AssertionError("forms are not proportional")
     return c
@@ -255,8 +262,8 @@ def _alphas(num, pivot) -> list[Fraction]:
     """Candidate alpha for num = alpha * pivot + rest: 0, and each ratio that cancels a term."""
     out = [Fraction(0)]
     for b in range(6):
-        if num[b] and pivot[b] and num[b] / pivot[b] not in out:
-            out.append(num[b] / pivot[b])
+        if num[b] and pivot[b] and _div(num[b], pivot[b]) not in out:
+            out.append(_div(num[b], pivot[b]))
     return out
 
 
@@ -313,6 +320,24 @@ class _Builder:
             self.keep(self.memo, key, val)
         return self.memo[key]
 
+    def reciprocal(self, piv, mag, w: float):
+        """w / piv without complex division: (conj(piv) / |piv|) * (w / |piv|).
+
+        numpy's complex division branches on |re| < |im| per point, which costs about
+        twice as much on data of random phase; this uses the |piv| of the existence test
+        and five float multiplications, and keeps the full float range (unlike
+        conj(piv) / |piv|**2).
+        """
+        u = self.emit(np.divide, ("k", 1.0), mag, dtype="f")
+        tw = u if w == 1.0 else self.emit(np.multiply, u, ("k", w), dtype="f")
+        ntw = self.emit(np.multiply, u, ("k", -w), dtype="f")
+        self.dtype.append("c")
+        inv = ("r", len(self.dtype) - 1)
+        for part, t in (("real", tw), ("imag", ntw)):
+            self.emit(np.multiply, (part, piv), u, out=(part, inv))
+            self.emit(np.multiply, (part, inv), t, out=(part, inv))
+        return inv
+
     def absolute(self, val):
         key = ("abs", val)
         return self.memo.get(key) or self.keep(self.memo, key, self.emit(np.absolute, val, dtype="f"))
@@ -341,7 +366,7 @@ class _Builder:
                 lead = _lead_index(g)
                 if not rest[lead]:
                     continue
-                c = rest[lead] / g[lead]
+                c = _div(rest[lead], g[lead])
                 new = _comb((1, rest), (-c, g))
                 gain = _nnz(rest) - _nnz(new)
                 if gain <= 0:
@@ -367,12 +392,22 @@ class _Builder:
         ent = tuple(_shift_form(k, v) if v else self._INPUTS[k] for k, v in enumerate(e))
         vals = tuple(s if isinstance(s[0], str) else self.forms.get(s) for s in ent)
         cost = sum(v is None for v in vals) + (3 if None in vals else self._det_cost(vals))
-        # an unequal-z0 S source stores s12, s21 rather than the S' entries
-        cost += sum(self.scale[k + 1] != 1.0 for k, v in enumerate(e) if not v and k in (1, 2))
+        # an unequal-z0 S source stores s12, s21 rather than the S' entries; their
+        # factors cancel in the product unless one of them is shifted
+        if (e[1] or e[2]) and self.scale[_X12] != 1.0:
+            cost += sum(1 for k in (1, 2) if not e[k])
         return cost + bool(const), ent, const
 
+    def scaled_entry(self, f: tuple):
+        """(stored entry, factor) when f is one source entry times a float factor (an
+        S' entry of an unequal-z0 S source), so that a caller can fold the factor."""
+        b = _lead_index(f)
+        if _nnz(f) == 1 and not f[_ONE] and b not in (_DET, _ONE):
+            return ("x", b - 1), self.scale[b]
+        return None
+
     def cost(self, f: tuple) -> int:
-        if f in self.forms or not any(f[1:]):
+        if f in self.forms or not any(f[1:]) or self.scaled_entry(f):
             return 0
         plans = [p for p in (self._sum_plan(f), self._shift_plan(f)) if p is not None]
         return min(p[0] for p in plans)
@@ -388,11 +423,12 @@ class _Builder:
         plan, shift = self._sum_plan(f), self._shift_plan(f)
         if shift is not None and (plan is None or shift[0] < plan[0]):
             _, ent, const = shift
+            raw = not (ent[1][0] != "x" or ent[2][0] != "x")  # s12' s21' = s12 s21
             vals = []
             for k, s in enumerate(ent):
                 if not isinstance(s[0], str):
                     s = self.form(s)
-                elif self.scale[k + 1] != 1.0:
+                elif self.scale[k + 1] != 1.0 and not raw:
                     s = self.emit(np.multiply, s, ("k", self.scale[k + 1]))
                 vals.append(s)
             val = self.det(tuple(vals))
@@ -417,6 +453,11 @@ class _Builder:
         return self.keep(self.forms, f, val)
 
 
+def _same(a: float, b: float) -> bool:
+    """Equal up to rounding (a few ulps): the same factor reached by two float paths."""
+    return abs(a - b) <= 1e-15 * max(abs(a), abs(b))
+
+
 def _nnz(f: tuple) -> int:
     """Number of non-constant terms of a form."""
     return sum(map(bool, f[1:]))
@@ -430,7 +471,7 @@ def _lead_index(f: tuple) -> int:
 def _lead(f: tuple) -> tuple[Fraction, tuple]:
     """(c, f / c) with c the lead coefficient (c = 0 for the zero form)."""
     c = f[_lead_index(f)]
-    return (c, tuple(v / c for v in f)) if c else (c, f)
+    return (c, tuple(_div(v, c) for v in f)) if c else (c, f)
 
 
 def _shifts(f):
@@ -479,7 +520,10 @@ class _Program:
             const, arrays = 0.0, []
             for i in range(2):
                 c, f = _lead(P[i][k])
-                if _nnz(f):
+                entry = bld.scaled_entry(f)
+                if entry:
+                    arrays.append((t[i] * abs(float(c)) * entry[1], entry[0]))
+                elif _nnz(f):
                     arrays.append((t[i] * abs(float(c)), bld.form(f)))
                 else:
                     const += t[i] * abs(float(c * f[_ONE]))
@@ -496,7 +540,7 @@ class _Program:
             acc = None
             for w, val in arrays:
                 a = bld.absolute(val)
-                if w != u:
+                if not _same(w, u):
                     a = bld.emit(np.multiply, a, ("k", w / u), dtype="f")
                 acc = a if acc is None else bld.into(np.add, acc, a)
             if const:
@@ -520,7 +564,11 @@ class _Program:
                     choice = (0, a, 0.0, None)
                 else:
                     c, f = _lead(rest)
-                    w = out_f[k] * float(c / c_pi)
+                    w = out_f[k] * float(_div(c, c_pi))
+                    entry = bld.scaled_entry(f)
+                    if entry:
+                        w *= entry[1]
+                    w = next((v for v in invs if _same(v, w)), w)
                     choice = (bld.cost(f) + (a != 0) + (w not in invs), a, w, f)
                 if best is None or choice[0] < best[0]:
                     best = choice
@@ -532,27 +580,39 @@ class _Program:
             if w not in invs:
                 base = next(iter(invs.items()), None)
                 if base is None:
-                    invs[w] = bld.emit(np.divide, ("k", w), piv)
+                    invs[w] = bld.reciprocal(piv, mag, w)
                 else:
                     invs[w] = bld.emit(np.multiply, base[1], ("k", w / base[0]))
                 bld.kept.add(invs[w])
+            entry = bld.scaled_entry(f)
             if not _nnz(f):  # the entry is a multiple of 1 / pivot
                 if a:
                     bld.emit(np.add, invs[w], ("k", a), out=o)
                 else:
                     bld.emit(np.copyto, invs[w], out=o)
-            elif a:
-                bld.emit(np.add, bld.emit(np.multiply, bld.form(f), invs[w]), ("k", a), out=o)
+                continue
+            val = entry[0] if entry else bld.form(f)  # w already holds the entry's factor
+            if a:
+                bld.emit(np.add, bld.emit(np.multiply, val, invs[w]), ("k", a), out=o)
             else:
-                bld.emit(np.multiply, bld.form(f), invs[w], out=o)
+                bld.emit(np.multiply, val, invs[w], out=o)
         self._link(bld, n_phase1, bad)
 
     def _link(self, bld: _Builder, n_phase1: int, bad):
-        """Assign buffers to registers (reusing dead ones) and index every argument."""
+        """Assign buffers to registers (reusing dead ones) and index every argument.
+
+        Slots: 0-3 source entries, 4-7 result entries (strided views, set per block),
+        then register buffers, their real/imaginary views, per-block views of the
+        entries, and the constants.
+        """
         code = bld.code
+
+        def base(a):  # the register or entry under a real/imaginary view
+            return a[1] if a[0] in ("real", "imag") else a
+
         last = {}
         for pc, (_, *args) in enumerate(code):
-            for a in args:
+            for a in map(base, args):
                 if a[0] == "r":
                     last[a[1]] = pc
         last[bad[1]] = max(last[bad[1]], n_phase1)  # read after phase 1
@@ -560,8 +620,8 @@ class _Program:
         free: dict[str, list[int]] = {"c": [], "f": [], "b": []}
         self.buffers: list[str] = []
         for pc, (_, *args) in enumerate(code):
-            out = args[-1]
-            for a in set(args[:-1]):  # inputs dying here may be reused by the output
+            out = base(args[-1])
+            for a in set(map(base, args[:-1])):  # inputs dying here may be reused by the output
                 if a[0] == "r" and last[a[1]] == pc and a != out and a[1] in phys:
                     free[bld.dtype[a[1]]].append(phys[a[1]])
             if out[0] == "r" and out[1] not in phys:
@@ -573,8 +633,11 @@ class _Program:
                     self.buffers.append(kind)
             if out[0] == "r" and last.get(out[1], -1) <= pc and out[1] != bad[1]:
                 free[bld.dtype[out[1]]].append(phys[out[1]])
-        consts: list = []
         nbuf = len(self.buffers)
+        self.views: list[tuple[str, int]] = []  # (part, buffer) -> slot 8 + nbuf + i
+        self.derived: list[tuple[int, int, str]] = []  # (slot, entry slot, part), per block
+        consts: list = []
+        n_fixed = 8 + nbuf
 
         def slot(a):
             if a[0] == "x":
@@ -583,12 +646,38 @@ class _Program:
                 return 4 + a[1]
             if a[0] == "r":
                 return 8 + phys[a[1]]
+            if a[0] in ("real", "imag"):
+                key = (a[0], slot(a[1]))
+                if a[1][0] == "r":
+                    if key not in self.views:
+                        self.views.append(key)
+                    return ("view", self.views.index(key))
+                for s, src, part in self.derived:
+                    if (part, src) == key:
+                        return ("derived", s)
+                self.derived.append((len(self.derived), key[1], key[0]))
+                return ("derived", len(self.derived) - 1)
             consts.append(a[1])
-            return 8 + nbuf + len(consts) - 1
+            return ("const", len(consts) - 1)
 
+        raw = [(fn, [slot(a) for a in args]) for fn, *args in code]
+        n_views = len(self.views)
+        n_derived = len(self.derived)
+
+        def final(i):
+            if isinstance(i, int):
+                return i
+            kind, j = i
+            if kind == "view":
+                return n_fixed + j
+            if kind == "derived":
+                return n_fixed + n_views + j
+            return n_fixed + n_views + n_derived + j
+
+        self.derived = [(n_fixed + n_views + j, src, part) for j, src, part in self.derived]
         linked = []
-        for fn, *args in code:
-            idx = [slot(a) for a in args]
+        for fn, idx in raw:
+            idx = [final(i) for i in idx]
             if fn is np.copyto:  # copyto(dst, src)
                 idx = idx[::-1]
             linked.append((fn, itemgetter(*idx)))
@@ -599,7 +688,16 @@ class _Program:
     def slots(self, m: int) -> list:
         """A fresh slot list with buffers for blocks of up to m points."""
         dt = {"c": np.complex128, "f": np.float64, "b": np.bool_}
-        return [None] * 8 + [np.empty(m, dt[k]) for k in self.buffers] + list(self.consts)
+        bufs = [np.empty(m, dt[k]) for k in self.buffers]
+        views = [getattr(bufs[b - 8], part) for part, b in self.views]
+        return [None] * 8 + bufs + views + [None] * len(self.derived) + list(self.consts)
+
+    def start_block(self, slots: list, blk, out) -> None:
+        """Point the entry slots (and their real/imaginary views) at one block."""
+        slots[0:4] = blk.T
+        slots[4:8] = out.T
+        for s, src, part in self.derived:
+            slots[s] = getattr(slots[src], part)
 
 
 @lru_cache(maxsize=256)
@@ -669,12 +767,13 @@ def convert(data, src: str, dst: str, z0: float | Sequence[float] = 50.0, *,
         blk = flat[start:stop]
         # The sum of the block is finite exactly when every entry is, unless finite
         # entries overflow it: then the exact test decides.
-        if not math.isfinite(blk.view(np.float64).sum()) and not np.all(np.isfinite(blk)):
+        with np.errstate(over="ignore"):
+            total = blk.view(np.float64).sum()
+        if not math.isfinite(total) and not np.all(np.isfinite(blk)):
             raise InputError("data: parameters contain NaN or infinity")
         if stop - start != block:  # the last, shorter block
-            slots = [s[:stop - start] if isinstance(s, np.ndarray) else s for s in slots]
-        slots[0:4] = blk.T
-        slots[4:8] = out[start:stop].T
+            slots = prog.slots(stop - start)
+        prog.start_block(slots, blk, out[start:stop])
         _run(phase1, slots)
         bad = slots[bad_slot]
         if bad.any():
