@@ -7,11 +7,11 @@ not a forward-active bias point.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from typing import Literal
 
 from .exceptions import BiasError, InputError
+from .validate import check_number as _finite
 
 __all__ = ["BipolarBias", "DEFAULT_VCE_SAT", "DEFAULT_TEMP"]
 
@@ -20,25 +20,6 @@ __all__ = ["BipolarBias", "DEFAULT_VCE_SAT", "DEFAULT_TEMP"]
 DEFAULT_VCE_SAT = 0.3
 #: Default temperature in K.
 DEFAULT_TEMP = 300.0
-
-
-def _finite(name: str, value: float | None, unit: str, *, positive=False, nonneg=False,
-            optional=False) -> float | None:
-    if value is None:
-        if optional:
-            return None
-        raise InputError(f"{name}: a value is required ({unit})")
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{name}: expected a number in {unit}, got {value!r}") from None
-    if not math.isfinite(v):
-        raise InputError(f"{name}: expected a finite value in {unit}, got {value!r}")
-    if positive and v <= 0:
-        raise InputError(f"{name}: expected a positive value in {unit}, got {v:g}")
-    if nonneg and v < 0:
-        raise InputError(f"{name}: expected a value >= 0 in {unit}, got {v:g}")
-    return v
 
 
 @dataclass(frozen=True, slots=True)

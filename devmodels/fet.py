@@ -47,7 +47,8 @@ import numpy as np
 from .biasfile import register_keys
 from .constants import BJT_CONFIGS, FET_CONFIGS
 from .exceptions import BiasError, InputError
-from .indefinite import FREQ_BLOCK, check_freq, kron_eliminate, stamp_admittance, stamp_vccs
+from .indefinite import device_indefinite, stamp_admittance, stamp_vccs
+from .validate import check_number as _num
 
 __all__ = ["MosfetBias", "JfetBias", "FetModel", "FET_DEVICES", "DEFAULT_SURFACE_POTENTIAL",
            "check_device_config", "is_fet_model"]
@@ -63,24 +64,6 @@ _INF = math.inf
 register_keys({"id": "A", "vds": "V", "vov": "V", "kn": "A/V2", "lambda": "1/V", "gamma": "V0.5",
                "vsb": "V", "phi": "V", "cgs": "F", "cgd": "F", "csb": "F", "cdb": "F", "idss": "A",
                "vp": "V", "rg": "Ohm"})
-
-
-def _num(name: str, value, unit: str, *, positive=False, nonneg=False, optional=False) -> float | None:
-    if value is None:
-        if optional:
-            return None
-        raise InputError(f"{name}: a value is required ({unit})")
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{name}: expected a number in {unit}, got {value!r}") from None
-    if not math.isfinite(v):
-        raise InputError(f"{name}: expected a finite value in {unit}, got {value!r}")
-    if positive and v <= 0:
-        raise InputError(f"{name}: expected a positive value in {unit}, got {v:g}")
-    if nonneg and v < 0:
-        raise InputError(f"{name}: expected a value >= 0 in {unit}, got {v:g}")
-    return v
 
 
 def _magnitudes(device: str, p_type: bool, id_: float, vds: float) -> tuple[float, float]:
@@ -346,47 +329,28 @@ class FetModel:
             External drain-gate resistance in ohm (``None``: none).
         """
         check_device_config(self, config)
-        f = check_freq(freq)
-        if r_degen < 0 or not math.isfinite(r_degen):
-            raise InputError(f"r_degen: expected a resistance >= 0 ohm, got {r_degen:g}")
-        if r_feedback is not None and (r_feedback <= 0 or not math.isfinite(r_feedback)):
-            raise InputError(f"r_feedback: expected a positive resistance in ohm, got {r_feedback:g}")
-        from .configs import CONFIG_TERMINALS
+        return device_indefinite(self, freq, r_degen=r_degen, r_feedback=r_feedback, config=config)
 
-        common = CONFIG_TERMINALS[config][2]
-        # Nodes: 0 g, 1 d, 2 s (terminals), then internal g', d', s' where a series resistance exists.
-        # The body is the common terminal itself.
-        series = (self.rg, self.rdx, self.rsx + r_degen)
-        n = 3 + sum(1 for r in series if r > 0)
-        out = np.empty((f.size, 3, 3), dtype=complex)
-        for start in range(0, f.size, FREQ_BLOCK):
-            jw = 2j * math.pi * f[start:start + FREQ_BLOCK]
-            Y = np.zeros((jw.size, n, n), dtype=complex)
-            inner, nxt = [], 3
-            for ext, r in enumerate(series):
-                if r > 0:
-                    stamp_admittance(Y, ext, nxt, 1.0 / r)
-                    inner.append(nxt)
-                    nxt += 1
-                else:
-                    inner.append(ext)
-            g, d, s = inner
-            b = common
-            stamp_admittance(Y, g, s, jw * self.cgs)
-            stamp_admittance(Y, g, d, jw * self.cgd)
-            if not math.isinf(self.ro):
-                stamp_admittance(Y, d, s, 1.0 / self.ro)
-            stamp_vccs(Y, d, s, g, s, self.gm)
-            if self.gmb:
-                stamp_vccs(Y, d, s, b, s, self.gmb)
-            stamp_admittance(Y, s, b, jw * self.csb)
-            stamp_admittance(Y, d, b, jw * self.cdb)
-            if r_feedback is not None:
-                stamp_admittance(Y, 0, 1, 1.0 / r_feedback)
-            for k in range(n - 1, 2, -1):
-                Y = kron_eliminate(Y, k)
-            out[start:start + jw.size] = Y
-        return out
+    def series_resistances(self) -> tuple[float, float, float]:
+        """Gate, drain and source series resistances in ohm (for :func:`device_indefinite`)."""
+        return (self.rg, self.rdx, self.rsx)
+
+    def intrinsic_stamp(self, omega: np.ndarray, Y: np.ndarray, g: int, d: int, s: int,
+                        body: int) -> None:
+        """Add the intrinsic FET between internal nodes g', d', s' to nodal matrix ``Y``.
+
+        ``body`` is the node the body is tied to (the common terminal: AC ground).
+        """
+        jw = 1j * omega
+        stamp_admittance(Y, g, s, jw * self.cgs)
+        stamp_admittance(Y, g, d, jw * self.cgd)
+        if not math.isinf(self.ro):
+            stamp_admittance(Y, d, s, 1.0 / self.ro)
+        stamp_vccs(Y, d, s, g, s, self.gm)
+        if self.gmb:
+            stamp_vccs(Y, d, s, body, s, self.gmb)
+        stamp_admittance(Y, s, body, jw * self.csb)
+        stamp_admittance(Y, d, body, jw * self.cdb)
 
 
 def is_fet_model(model) -> bool:

@@ -103,7 +103,7 @@ def check_freq(freq) -> np.ndarray:
 
 
 def device_indefinite(model: Stampable, freq, *, r_degen: float = 0.0,
-                      r_feedback: float | None = None) -> np.ndarray:
+                      r_feedback: float | None = None, config: str | None = None) -> np.ndarray:
     """Indefinite admittance matrix of a device and its external elements.
 
     Parameters
@@ -117,6 +117,10 @@ def device_indefinite(model: Stampable, freq, *, r_degen: float = 0.0,
         emitter terminal; 0 for none.
     r_feedback : float or None
         External collector-base (drain-gate) feedback resistance in ohm; ``None`` for none.
+    config : str, optional
+        Configuration; needed by models with a fourth terminal tied to the common one
+        (a FET's body).  Such a model has ``series_resistances()`` and an
+        ``intrinsic_stamp(omega, Y, b, c, e, body)`` that takes the body node.
 
     Returns
     -------
@@ -128,7 +132,16 @@ def device_indefinite(model: Stampable, freq, *, r_degen: float = 0.0,
         raise InputError(f"r_degen: expected a resistance >= 0 ohm, got {r_degen:g}")
     if r_feedback is not None and (r_feedback <= 0 or not math.isfinite(r_feedback)):
         raise InputError(f"r_feedback: expected a positive resistance in ohm, got {r_feedback:g}")
-    series = (model.rb, model.rcx, model.rex + r_degen)
+    own = model.series_resistances() if hasattr(model, "series_resistances") else (
+        model.rb, model.rcx, model.rex)
+    series = (own[0], own[1], own[2] + r_degen)
+    extra = ()
+    if hasattr(model, "series_resistances"):  # a four-terminal model: body to the common terminal
+        from .configs import CONFIG_TERMINALS
+
+        if config is None:
+            raise InputError("config: this device model needs the configuration (its body terminal)")
+        extra = (CONFIG_TERMINALS[config][2],)
     n = 3 + sum(1 for r in series if r > 0)
     out = np.empty((f.size, 3, 3), dtype=complex)
     for start in range(0, f.size, FREQ_BLOCK):
@@ -143,7 +156,7 @@ def device_indefinite(model: Stampable, freq, *, r_degen: float = 0.0,
                 nxt += 1
             else:
                 inner.append(ext)
-        model.intrinsic_stamp(omega, Y, *inner)
+        model.intrinsic_stamp(omega, Y, *inner, *extra)
         if r_feedback is not None:
             stamp_admittance(Y, 0, 1, 1.0 / r_feedback)
         for k in range(n - 1, 2, -1):
