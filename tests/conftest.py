@@ -34,6 +34,24 @@ def run_json(run):
     return _run
 
 
+def assert_one_line_error(run, *args, match=None, prefix=None):
+    """Run a command that must fail on bad input: exit 2, one line on stderr, no traceback.
+
+    ``match`` must appear in the line; ``prefix`` must start it after ``devmodels: error: ``.
+    Returns the line.
+    """
+    code, out, err = run(*args)
+    assert code == 2, (out, err)
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("devmodels: error:"), err
+    assert "Traceback" not in err and out == ""
+    if match:
+        assert match in lines[0], lines[0]
+    if prefix:
+        assert lines[0].startswith(f"devmodels: error: {prefix}"), lines[0]
+    return lines[0]
+
+
 def cx(pair):
     """JSON [re, im] -> complex."""
     return complex(pair[0], pair[1])

@@ -8,6 +8,7 @@ from pathlib import Path
 import pytest
 
 import devmodels as dm
+from conftest import assert_one_line_error
 from devmodels.network import BiasNetwork, operating_point
 
 EXAMPLE = str(Path(__file__).resolve().parents[1] / "bias_examples" / "sensor_preamp_divider.toml")
@@ -195,11 +196,7 @@ BAD_NETWORKS = {
     (["spread", "--ic", "1mA", "--vce", "5"], "beta_min"),
 ])
 def test_cli_errors_are_one_line(run, args, name):
-    code, out, err = run(*args)
-    assert code == 2, err
-    lines = err.strip().splitlines()
-    assert len(lines) == 1 and "Traceback" not in err
-    assert lines[0].startswith(f"devmodels: error: {name}: "), lines[0]
+    assert_one_line_error(run, *args, prefix=f"{name}: ")
 
 
 @pytest.mark.parametrize("case", sorted(BAD_NETWORKS))

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 import devmodels as dm
-from conftest import cx
+from conftest import assert_one_line_error, cx
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "bias_examples"
 BIAS = ["--ic", "1mA", "--vce", "5V", "--beta", "100", "--va", "80V", "--ft", "300MHz", "--cmu", "2pF"]
@@ -132,13 +132,7 @@ ERRORS = [
 
 @pytest.mark.parametrize("args,needle", ERRORS)
 def test_error_paths_exit_2_with_one_line(run, args, needle):
-    code, out, err = run(*args)
-    assert code == 2, (out, err)
-    lines = err.strip().splitlines()
-    assert len(lines) == 1, err
-    assert lines[0].startswith("devmodels: error:")
-    assert needle in lines[0]
-    assert "Traceback" not in err and out == ""
+    assert_one_line_error(run, *args, match=needle)
 
 
 def test_malformed_and_unknown_toml(run, tmp_path):

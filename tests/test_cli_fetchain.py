@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 import devmodels as dm
-from conftest import cx
+from conftest import assert_one_line_error, cx
 from devmodels.analysis import terminate
 from devmodels.fet import FetModel, MosfetBias
 
@@ -215,13 +215,7 @@ ERRORS = [
 
 @pytest.mark.parametrize("args,needle", ERRORS)
 def test_error_paths_exit_2_with_one_line(run, args, needle):
-    code, out, err = run(*args)
-    assert code == 2, (out, err)
-    lines = err.strip().splitlines()
-    assert len(lines) == 1, err
-    assert lines[0].startswith("devmodels: error:")
-    assert needle in lines[0]
-    assert "Traceback" not in err and out == ""
+    assert_one_line_error(run, *args, match=needle)
 
 
 def test_bipolar_commands_unchanged_by_fet_options(run_json):

@@ -10,7 +10,7 @@ import pytest
 
 import devmodels as dm
 from devmodels.analysis import terminate
-from conftest import cx
+from conftest import assert_one_line_error, cx
 
 BIAS = ["--ic", "1mA", "--vce", "5V", "--beta", "100", "--va", "80V", "--ft", "300MHz", "--cmu", "2pF",
         "--rb", "50"]
@@ -20,17 +20,6 @@ GAIN_KEYS = {"freq", "av", "avs", "ai", "zin", "zout", "gt_db", "k", "mu", "msg_
 def stage(config):
     m = dm.HybridPi.from_bias(dm.BipolarBias(ic=1e-3, vce=5.0, beta=100, va=80.0, ft=300e6, cmu=2e-12, rb=50.0))
     return dm.Stage(m, config)
-
-
-def assert_one_line_error(run, *args, match=None):
-    code, out, err = run(*args)
-    assert code == 2, (out, err)
-    lines = err.strip().splitlines()
-    assert len(lines) == 1 and lines[0].startswith("devmodels: error:"), err
-    assert "Traceback" not in err and out == ""
-    if match:
-        assert match in lines[0], lines[0]
-    return lines[0]
 
 
 # --- gain ------------------------------------------------------------------------------------
