@@ -1,7 +1,8 @@
 """Full stage pipeline on a long frequency sweep, against a per-frequency nodal solve.
 
-devmodels: bias point -> hybrid-pi -> indefinite admittance matrix (F, 3, 3) -> CE, CB
-and CC two-ports -> terminated analysis (all results), vectorised over F points.
+devmodels: bias point -> hybrid-pi -> indefinite admittance matrix -> CE, CB and CC
+two-ports -> terminated analysis (all results), vectorised over F points
+(``devmodels.analysis.terminate_configs``, which works block by block).
 
 Reference (the general-circuit approach): for each frequency, build the nodal matrix of
 the same circuit with numpy, remove the internal base node with numpy.linalg.solve, take
@@ -23,12 +24,11 @@ import numpy as np
 
 def run_devmodels(f, rs, rl):
     import devmodels as dm
-    from devmodels.analysis import terminate
+    from devmodels.analysis import terminate_configs
 
     bias = dm.BipolarBias(ic=1e-3, vce=5.0, beta=100, va=80.0, ft=300e6, cmu=2e-12, rb=50.0)
     m = dm.HybridPi.from_bias(bias)
-    Y = dm.device_indefinite(m, f)
-    return {c: terminate(dm.TwoPort(f, dm.config_y(Y, c), "y", 50.0, c), rs, rl) for c in ("ce", "cb", "cc")}, m
+    return terminate_configs(dm.Stage(m), ("ce", "cb", "cc"), f, rs, rl), m
 
 
 def run_reference(f, m, rs, rl):
@@ -60,7 +60,7 @@ def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--points", type=int, default=1_000_000)
     ap.add_argument("--ref-points", type=int, default=20_000)
-    ap.add_argument("--repeat", type=int, default=3)
+    ap.add_argument("--repeat", type=int, default=5)
     args = ap.parse_args()
     rs, rl = 50.0, 1e3
     f = np.logspace(3, 10, args.points)

@@ -84,8 +84,14 @@ def kron_eliminate(Y: np.ndarray, k: int) -> np.ndarray:
     pivot = Y[:, k, k]
     if np.any(pivot == 0):
         raise InputError(f"internal node {k} is not connected; cannot reduce the network")
+    n = Y.shape[1]
+    if k == n - 1:  # the usual case: the last node, reduced in place on a view
+        col = Y[:, :k, k] / pivot[:, None]
+        kept = Y[:, :k, :k]
+        kept -= col[:, :, None] * Y[:, None, k, :k]
+        return kept
     Y = Y - Y[:, :, k, None] * (Y[:, None, k, :] / pivot[:, None, None])
-    keep = [i for i in range(Y.shape[1]) if i != k]
+    keep = [i for i in range(n) if i != k]
     return Y[:, keep][:, :, keep]
 
 

@@ -256,3 +256,24 @@ def test_random_passive_and_active_networks_against_y_form():
     ys, yl = 1 / zs, 1 / zl
     avs = -y[:, 1, 0] * ys / ((y[:, 0, 0] + ys) * (y[:, 1, 1] + yl) - y[:, 0, 1] * y[:, 1, 0])
     np.testing.assert_allclose(terminate(tp, zs, zl).avs, avs, rtol=1e-8)
+
+
+@pytest.mark.parametrize("extras", [dict(), dict(r_degen=22.0, r_feedback=47e3)])
+def test_terminate_configs_equals_one_stage_at_a_time(extras):
+    # The fused block-by-block pipeline must give exactly what the step-by-step one gives
+    # (same engine, so equality to rounding), over more points than one block and with an
+    # open load (the broadcast source/load path).
+    from devmodels.analysis import BLOCK, terminate, terminate_configs
+
+    m = dm.HybridPi.from_bias(dm.BipolarBias(ic=2e-3, vce=5.0, beta=120, va=60.0, ft=400e6,
+                                             cmu=1.5e-12, rb=40.0))
+    f = np.logspace(2, 10, BLOCK + 77)
+    for rl in (1e3, np.inf):
+        fused = terminate_configs(dm.Stage(m, "ce", **extras), ("ce", "cb", "cc"), f, 75.0, rl, z0=50.0)
+        for c in ("ce", "cb", "cc"):
+            ref = terminate(dm.Stage(m, c, **extras).two_port(f), 75.0, rl, 50.0)
+            for name in ("av", "avs", "ai", "zin", "zout", "gt_db", "gp_db", "ga_db", "k", "mu",
+                         "mu_prime", "msg_db", "u_db"):
+                np.testing.assert_allclose(getattr(fused[c], name), getattr(ref, name), rtol=1e-12,
+                                           equal_nan=True, err_msg=f"{c} {name}")
+            assert fused[c].zl.shape == (f.size,) and fused[c].config == c
