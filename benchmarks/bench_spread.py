@@ -21,10 +21,16 @@ import os
 import platform
 import resource
 import statistics
+import sys
 import time
 import tracemalloc
 
+from pathlib import Path
+
 import numpy as np
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _report import ratio_line  # noqa: E402
 
 
 def main() -> None:
@@ -98,6 +104,10 @@ def main() -> None:
     print(f"peak resident size of the whole benchmark process (ru_maxrss): {rss:.0f} MB")
     print(f"result: {n / best:,.0f} samples/s (target >= 1,000,000), peak {peak / 1e6:.0f} MB (target <= 500 MB); "
           f"regions {res.regions}")
+    ratio_line(f"spread, {n} samples: samples/s (vs scalar pipeline)", f"{n / best:.3g}/s",
+               f"{1 / t_scalar:.3g}/s", t_scalar * n / best, ">= 1e6 samples/s", n / best >= 1e6)
+    ratio_line("spread: peak traced memory / one copy of inputs and results", f"{peak / 1e6:.0f} MB",
+               f"{copy_bytes / 1e6:.0f} MB", peak / copy_bytes, "<= 500 MB", peak <= 500e6)
 
 
 if __name__ == "__main__":

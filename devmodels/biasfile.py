@@ -16,7 +16,6 @@ that use them.
 
 from __future__ import annotations
 
-import tomllib
 from pathlib import Path
 
 from .exceptions import FileFormatError
@@ -66,6 +65,8 @@ def load_bias_file(path: str | Path) -> tuple[dict, dict]:
     FileFormatError
         The file cannot be read, is not valid TOML, or has an unknown top-level key.
     """
+    import tomllib  # only when a file is read (keeps `import devmodels` light)
+
     p = Path(path)
     try:
         raw = p.read_bytes()

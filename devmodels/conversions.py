@@ -36,7 +36,8 @@ pivot :math:`\pi = p_{i_1 i_2}`,
 
 So every entry of every target set is (an affine function of the four source entries
 and their determinant) divided by (another such function).  This algebra is done once
-per pair and reference resistance in exact rational arithmetic (:class:`fractions.Fraction`
+per pair and reference resistance in exact rational arithmetic (:class:`fractions.Fraction`,
+imported only when a pair is first planned
 of the given floats), so terms that cancel cancel exactly; the result is a short
 straight-line program of numpy ufunc calls (for example z -> h is
 :math:`h_{11} = \det Z / z_{22}`, :math:`h_{12} = z_{12}/z_{22}`,
@@ -68,7 +69,6 @@ scikit-rf and a plain memory copy.
 from __future__ import annotations
 
 import math
-from fractions import Fraction
 from functools import lru_cache
 from numbers import Number
 from operator import itemgetter
@@ -146,6 +146,8 @@ def _unit(b: int, c=1) -> tuple:
 
 def _div(a, b) -> Fraction:
     """Exact a / b (a Python int / int would give a float)."""
+    from fractions import Fraction
+
     return Fraction(a) / b
 
 
@@ -162,6 +164,8 @@ def _comb(*terms) -> tuple:
 
 def _coords(kind: str, r: tuple[float, float]) -> list[list[Fraction]]:
     """T_kind: rows are the kind's coordinates (o1, o2, i1, i2) as functions of x."""
+    from fractions import Fraction
+
     if kind == "s":
         r1, r2 = Fraction(r[0]), Fraction(r[1])
         return [[1, 0, -r1, 0], [0, 1, 0, -r2], [1, 0, r1, 0], [0, 1, 0, r2]]
@@ -225,6 +229,8 @@ def _derive(src: str, dst: str, r_src, r_dst):
 
 def _det_affine(P) -> tuple:
     """det of a 2x2 matrix of affine forms, as a linear form (it must be one)."""
+    from fractions import Fraction
+
     quad: dict[tuple[int, int], Fraction] = {}
     lin = [Fraction(0)] * 6
 
@@ -260,6 +266,8 @@ def _ratio(f, g) -> Fraction:
 
 def _alphas(num, pivot) -> list[Fraction]:
     """Candidate alpha for num = alpha * pivot + rest: 0, and each ratio that cancels a term."""
+    from fractions import Fraction
+
     out = [Fraction(0)]
     for b in range(6):
         if num[b] and pivot[b] and _div(num[b], pivot[b]) not in out:
@@ -415,6 +423,8 @@ class _Builder:
     # --- building ----------------------------------------------------------------------
     def form(self, f: tuple):
         """Value (register or source entry) holding the exact form f, lead coefficient 1."""
+        from fractions import Fraction
+
         if f in self.forms:
             return self.forms[f]
         b = _lead_index(f)
