@@ -36,9 +36,8 @@ pivot :math:`\pi = p_{i_1 i_2}`,
 
 So every entry of every target set is (an affine function of the four source entries
 and their determinant) divided by (another such function).  This algebra is done once
-per pair and reference resistance in exact rational arithmetic (:class:`fractions.Fraction`,
-imported only when a pair is first planned
-of the given floats), so terms that cancel cancel exactly; the result is a short
+per pair and reference resistance in exact rational arithmetic (:class:`fractions.Fraction`
+of the given floats, imported only when a pair is first planned), so terms that cancel cancel exactly; the result is a short
 straight-line program of numpy ufunc calls (for example z -> h is
 :math:`h_{11} = \det Z / z_{22}`, :math:`h_{12} = z_{12}/z_{22}`,
 :math:`h_{21} = -z_{21}/z_{22}`, :math:`h_{22} = 1/z_{22}`: one reciprocal, one
