@@ -25,25 +25,14 @@ from __future__ import annotations
 import argparse
 import os
 import platform
-import statistics
 import sys
-import time
 
 from pathlib import Path
 
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from _report import ratio_line  # noqa: E402
-
-
-def median_time(fn, repeat):
-    times = []
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t)
-    return statistics.median(times)
+from _report import median_time, ratio_line  # noqa: E402
 
 
 def machine() -> str:

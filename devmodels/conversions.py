@@ -71,12 +71,15 @@ import math
 from functools import lru_cache
 from numbers import Number
 from operator import itemgetter
-from typing import Sequence
+from typing import TYPE_CHECKING, Sequence
 
 import numpy as np
 
 from .constants import KINDS
 from .exceptions import InputError, SingularParameterError
+
+if TYPE_CHECKING:  # for annotations only; imported at run time where a pair is planned
+    from fractions import Fraction
 
 __all__ = ["convert", "normalize_z0", "SINGULAR_TOL", "BLOCK"]
 

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 import devmodels as dm
-from devmodels.export import (atomic_write, csv_text, touchstone_text, twoport_dict, write_by_extension,
+from devmodels.export import (atomic_write, touchstone_text, twoport_dict, write_by_extension,
                               write_csv, write_json, write_touchstone)
 
 FREQ = np.geomspace(1e3, 1e10, 37)

@@ -15,7 +15,7 @@ from ..exceptions import FileFormatError, InputError
 from ..units import format_complex, format_si, parse_quantity
 from .app import app
 from .common import (FreqOpt, JsonOpt, ParamsOpt, Z0Opt, BiasInputs, bias_options, emit_json, jsonable,
-                     parse_freqs, parse_given, parse_z0, print_table, print_twoport, twoport_json, warn)
+                     parse_freqs, parse_given, parse_z0, print_table, print_twoport, twoport_json)
 
 #: Default source and load impedances, ohm.
 DEFAULT_RS, DEFAULT_RL = "50", "1k"
