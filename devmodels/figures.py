@@ -37,7 +37,7 @@ from typing import Callable
 import numpy as np
 
 from .analysis import stability_arrays, terminate_arrays
-from .exceptions import InputError
+from .exceptions import InputError, SingularParameterError
 from .stage import Stage
 
 __all__ = ["FrequencyFigures", "frequency_figures", "crossing", "miller_bandwidth", "bandwidth",
@@ -65,7 +65,7 @@ class FrequencyFigures:
         external resistors only).
     avs0 : complex
         Low-frequency (0 Hz) terminated voltage gain the bandwidth is measured against.
-    h21_0 : float
+    h21_0 : float or None
         |h21| of the bare CE device at 0 Hz (the low-frequency beta).
     f_range : (float, float)
         The searched range in Hz.
@@ -83,7 +83,7 @@ class FrequencyFigures:
     bandwidth: float | None
     miller: float | None
     avs0: complex
-    h21_0: float
+    h21_0: float | None
     f_range: tuple[float, float]
     freq: np.ndarray
     h21: np.ndarray
@@ -226,8 +226,12 @@ def frequency_figures(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1
     def u_db(f):
         return stability_arrays(bare.two_port(f, "s").data)["u_db"]
 
-    h0 = float(abs(h21(np.array([0.0]))[0]))
-    f_beta = crossing(lambda f: np.abs(h21(f)), h0 / math.sqrt(2), f_start, f_stop, points)
+    try:
+        h0 = float(abs(h21(np.array([0.0]))[0]))
+    except SingularParameterError:  # no input conductance at 0 Hz (a FET): |h21| is unbounded there
+        h0 = None
+    f_beta = None if h0 is None else crossing(lambda f: np.abs(h21(f)), h0 / math.sqrt(2), f_start, f_stop,
+                                              points)
     ft = crossing(lambda f: np.abs(h21(f)), 1.0, f_start, f_stop, points)
     fmax = crossing(u_db, 0.0, f_start, f_stop, points)
     bw, avs0 = bandwidth(stage, f_start, f_stop, zs, zl, points)

@@ -272,3 +272,21 @@ def test_no_number_output_is_nan_or_inf(run):
         assert code == 0 and "nan" not in out.lower() and " inf" not in out.lower()
         code, out, err = run(*args, "--json")
         assert code == 0 and "NaN" not in out and "Infinity" not in out
+
+
+def test_compare_and_sweep_of_a_fet(run_json):
+    # compare takes the FET configurations; each entry equals a separate gain run, and the
+    # CS fT of this MOSFET (ro, a small gate resistance) is gm / (2 pi (Cgs + Cgd)) to within
+    # a few percent (the definition of fT for the square-law model; Sedra and Smith, from memory).
+    from pathlib import Path
+
+    fet = str(Path(__file__).resolve().parents[1] / "bias_examples" / "fet" / "nmos_lna_input.toml")
+    d = run_json("compare", fet, "--freq", "100MHz")
+    assert {"cs", "cg", "cd"} <= set(d) and "ce" not in d
+    for c in ("cs", "cg", "cd"):
+        g = run_json("gain", fet, "-c", c, "--freq", "100MHz")["points"][0]
+        assert g["av"] == pytest.approx(d[c]["av"], rel=1e-12)
+    s = run_json("sweep", fet, "-c", "cs", "--start", "1MHz", "--stop", "100GHz", "--points", "21")
+    assert s["figures"]["f_beta"] is None  # |h21| has no finite 0 Hz value without gate conductance
+    m = run_json("model", fet)
+    assert m["ft"] is not None and s["figures"]["ft"] == pytest.approx(m["ft"], rel=0.05)

@@ -315,7 +315,7 @@ def compare_cmd(bias_in: BiasInputs, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT
                     "--plot", help="Draw gain vs frequency (1 kHz to 10 GHz), Smith chart and |h21| into "
                                    "FILE.png or FILE.svg.", show_default=False)] = None,
                 as_json: JsonOpt = False) -> None:
-    """CE, CB and CC side by side for the same device, bias point and terminations."""
+    """CE, CB and CC (CS, CG and CD for a FET) side by side for the same device, bias and terminations."""
     from ..analysis import terminate
     from ..figures import bandwidth
 
@@ -326,8 +326,11 @@ def compare_cmd(bias_in: BiasInputs, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT
         raise InputError("freq: compare analyses one frequency; give one value")
     if not bias_in.given():
         raise InputError("bias point: missing; give a bias file or bias options (--ic, --vce, --beta, ...)")
-    configs = ("ce", "cb", "cc")
+    from ..fet import is_fet_model
+
+    configs = ("cs", "cg", "cd") if is_fet_model(bias_in.model()) else ("ce", "cb", "cc")
     stages = {c: bias_in.stage(c) for c in configs}
+    names = ", ".join(c.upper() for c in configs)
     points, bws = {}, {}
     for c, st in stages.items():
         res = terminate(st.two_port(f, "y", z0v), zs, zl, z0v)
@@ -350,8 +353,8 @@ def compare_cmd(bias_in: BiasInputs, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT
     for name, fn in spec:
         rows.append([name] + [fn(points[c]) for c in configs])
     rows.append(["-3 dB bandwidth"] + [format_si(bws[c], "Hz") if bws[c] else "unbounded" for c in configs])
-    print_table(f"CE, CB, CC at {format_si(float(f[0]), 'Hz')} between Rs = {_zstr(zs)} and RL = {_zstr(zl)}",
-                ["quantity", "CE", "CB", "CC"], rows,
+    print_table(f"{names} at {format_si(float(f[0]), 'Hz')} between Rs = {_zstr(zs)} and RL = {_zstr(zl)}",
+                ["quantity", *(c.upper() for c in configs)], rows,
                 caption="bandwidth: where |avs| falls 3 dB below its low-frequency value "
                         f"(searched up to {format_si(COMPARE_RANGE[1], 'Hz')})")
     for c in configs:
@@ -370,9 +373,10 @@ def _compare_plot(path: Path, stages: dict, zs, zl, z0v) -> None:
         tp = st.two_port(grid, "y", z0v)
         gains[c] = terminate(tp, zs, zl, z0v)
         sp[c] = tp.to("s", z0v)
-    figs = frequency_figures(stages["ce"], *COMPARE_PLOT_RANGE, zs, zl)
+    first = next(iter(stages))
+    figs = frequency_figures(stages[first], *COMPARE_PLOT_RANGE, zs, zl)
     plot_report(path, gains=gains, s_ports=sp, figures=figs,
-                title=f"CE, CB, CC between Rs = {_zstr(zs)} and RL = {_zstr(zl)}")
+                title=f"{', '.join(c.upper() for c in stages)} between Rs = {_zstr(zs)} and RL = {_zstr(zl)}")
 
 
 # --- sweep -------------------------------------------------------------------------------
@@ -487,7 +491,7 @@ def sweep_cmd(bias_in: BiasInputs, config: ConfigOpt = "ce",
     if shown is not tp:
         sys.stdout.write(f"(showing {len(shown)} of {len(tp)} points; --out FILE or --json for all)\n")
     if figs is not None:
-        _print_figures(figs, zs, zl)
+        _print_figures(figs, zs, zl, config)
     if written is not None:
         sys.stderr.write(f"devmodels: wrote {written[1]} to {written[0]}\n")
     if plot is not None:
@@ -507,15 +511,19 @@ def _check_out(out: Path, kind: str) -> None:
                          ".ts (Touchstone 2.0), .csv or .json")
 
 
-def _print_figures(figs, zs, zl) -> None:
+def _print_figures(figs, zs, zl, config: str = "ce") -> None:
     lo, hi = figs.f_range
 
     def fq(v):
         return format_si(v, "Hz") if v is not None else f"not reached in {format_si(lo, 'Hz')}–{format_si(hi, 'Hz')}"
 
     err = figs.miller_error
-    rows = [["f_beta", fq(figs.f_beta), f"|h21| of the CE device 3 dB below {figs.h21_0:.4g}"],
-            ["fT", fq(figs.ft), "|h21| of the CE device = 1"],
+    dev = "CS" if config in ("cs", "cg", "cd") else "CE"
+    beta_row = (["f_beta", fq(figs.f_beta), f"|h21| of the {dev} device 3 dB below {figs.h21_0:.4g}"]
+                if figs.h21_0 is not None else
+                ["f_beta", "unbounded", f"|h21| of the {dev} device has no finite value at 0 Hz"])
+    rows = [beta_row,
+            ["fT", fq(figs.ft), f"|h21| of the {dev} device = 1"],
             ["fmax", fq(figs.fmax), "Mason's U = 1 (0 dB)"],
             ["bandwidth", fq(figs.bandwidth),
              f"|avs| 3 dB below {abs(figs.avs0):.4g} (Rs = {_zstr(zs)}, RL = {_zstr(zl)})"],
