@@ -159,3 +159,21 @@ def test_console_script_runs_as_a_process():
     p = subprocess.run([sys.executable, "-m", "devmodels", "model", "--ic", "-1mA", "--vce", "5", "--beta",
                         "100"], capture_output=True, text=True)
     assert p.returncode == 2 and "Traceback" not in p.stderr and len(p.stderr.strip().splitlines()) == 1
+
+
+def test_params_and_crosscheck_read_a_touchstone_file(run, run_json, tmp_path):
+    # A sweep written as Touchstone 1.1 and read back (through scikit-rf's parser) gives the
+    # same H parameters as the stage computed directly, within the file's 17 digits.
+    out = tmp_path / "stage.s2p"
+    code, _, err = run("sweep", *BIAS, "--start", "1MHz", "--stop", "1GHz", "--points", "7", "--out", str(out))
+    assert code == 0, err
+    d = run_json("params", "--touchstone", str(out), "--kind", "h")
+    m = dm.HybridPi.from_bias(dm.BipolarBias(ic=1e-3, vce=5, beta=100, va=80, ft=300e6, cmu=2e-12))
+    f = [p["freq"] for p in d["points"]]
+    ref = dm.Stage(m, "ce").two_port(f, "h").data
+    for p, r in zip(d["points"], ref):
+        got = np.array([[cx(p["11"]), cx(p["12"])], [cx(p["21"]), cx(p["22"])]])
+        np.testing.assert_allclose(got, r, rtol=1e-9)
+    x = run_json("crosscheck", "--touchstone", str(out))
+    assert x["points"] == 7 and x["max_rel_error"] < 1e-9
+    assert_one_line_error(run, "params", "--touchstone", str(out), "--ic", "1mA", match="either")

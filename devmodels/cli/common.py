@@ -23,7 +23,8 @@ from ..units import parse_complex, parse_quantity, parse_temperature
 
 __all__ = [
     "BiasInputs", "bias_options", "parse_freqs", "parse_z0", "parse_given", "jsonable", "emit_json",
-    "print_table", "warn", "points_json", "twoport_json", "print_twoport", "JsonOpt", "FreqOpt", "Z0Opt", "ParamsOpt", "ELEMENT_UNITS",
+    "print_table", "warn", "two_port_input", "points_json", "twoport_json", "print_twoport",
+    "JsonOpt", "FreqOpt", "Z0Opt", "ParamsOpt", "TouchstoneOpt", "ELEMENT_UNITS",
 ]
 
 PANEL = "Bias point (override the bias file)"
@@ -68,6 +69,9 @@ FreqOpt = Annotated[Optional[list[str]], typer.Option(
     "--freq", "-f", help="Frequency, Hz (e.g. 10MHz); repeat for more points.", show_default=False)]
 Z0Opt = Annotated[str, typer.Option(
     "--z0", help="S reference resistance, ohm: one value or port1,port2 (e.g. 50,75).")]
+TouchstoneOpt = Annotated[Optional[Path], typer.Option(
+    "--touchstone", help="A two-port Touchstone file (.s2p, .ts) instead of a bias point; without "
+                         "--freq every frequency of the file.", show_default=False)]
 ParamsOpt = Annotated[Optional[str], typer.Option(
     "--params", help="A given two-port instead of a bias point: KIND=v11,v12,v21,v22 "
                      "(complex allowed, e.g. h=2.6k,2e-4,100,12u).", show_default=False)]
@@ -343,3 +347,30 @@ def print_twoport(tp, polar: bool = False, title: str | None = None) -> None:
         rows.append([format_si(f, "Hz") if f is not None else "(any)"] +
                     [format_complex(complex(v), u, 4, polar) for v, u in zip(vals, units)])
     print_table(title, ["freq"] + list(names), rows)
+
+
+def two_port_input(bias_in: BiasInputs, given: str | None, touchstone: Path | None, config: str,
+                   freq: np.ndarray | None, z0, default_freq: float = 1e3):
+    """The two-port to work on: from a bias point, from ``--params`` or from ``--touchstone``.
+
+    A bias point without ``freq`` is taken at ``default_freq`` (Hz); given parameters keep
+    one frequency-independent point, a Touchstone file all its frequencies.
+    """
+    from ..configs import check_config
+    from ..touchstone import read_touchstone
+
+    check_config(config)
+    if given is not None and touchstone is not None:
+        raise InputError("params: give either --params or --touchstone, not both")
+    if given is not None or touchstone is not None:
+        if bias_in.given():
+            what = "--params" if given is not None else "--touchstone"
+            raise InputError(f"{what.lstrip('-')}: give either a two-port ({what}) or a bias point, not both")
+        if given is not None:
+            return parse_given(given, z0, freq, config)
+        return read_touchstone(touchstone, freq, config)
+    if not bias_in.given():
+        raise InputError("bias point: missing; give a bias file, bias options (--ic, --vce, --beta, ...), "
+                         "--params or --touchstone")
+    f = freq if freq is not None else np.array([default_freq])
+    return bias_in.stage(config).two_port(f, "y", z0)

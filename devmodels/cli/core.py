@@ -9,8 +9,9 @@ import typer
 
 from ..exceptions import InputError
 from .app import app
-from .common import (FreqOpt, JsonOpt, ParamsOpt, Z0Opt, BiasInputs, bias_options, emit_json,
-                     parse_freqs, parse_given, parse_z0, print_table, print_twoport, twoport_json)
+from .common import (FreqOpt, JsonOpt, ParamsOpt, TouchstoneOpt, Z0Opt, BiasInputs, bias_options, emit_json,
+                     parse_freqs, parse_given, parse_z0, print_table, print_twoport, two_port_input,
+                     twoport_json)
 
 ConfigOpt = Annotated[str, typer.Option("--config", "-c", help="Configuration: ce, cb, cc (cs, cg, cd for FETs).")]
 KindOpt = Annotated[str, typer.Option("--kind", "-k", help="Parameter kind: y, z, h, g, abcd, s.")]
@@ -27,11 +28,6 @@ def _check_kind(kind: str) -> str:
     if k not in KINDS:
         raise InputError(f"kind: unknown parameter kind {kind!r}, expected one of {', '.join(KINDS)}")
     return k
-
-
-def _no_bias_with_given(bias_in: BiasInputs, what: str) -> None:
-    if bias_in.given():
-        raise InputError(f"{what}: give either a two-port ({what}) or a bias point, not both")
 
 
 @app.command("model")
@@ -82,30 +78,15 @@ def model_cmd(bias_in: BiasInputs, as_json: JsonOpt = False) -> None:
     print_table(title, ["element", "value", "relation"], rows)
 
 
-def _stage_or_given(bias_in: BiasInputs, given: str | None, config: str, freq, z0):
-    """The y two-port of the bias-point stage, or the given parameters."""
-    from ..configs import check_config
-
-    check_config(config)
-    if given is not None:
-        _no_bias_with_given(bias_in, "--params")
-        return parse_given(given, z0, freq, config)
-    if not bias_in.given():
-        raise InputError("bias point: missing; give a bias file, bias options (--ic, --vce, --beta, ...) "
-                         "or a two-port (--params)")
-    f = freq if freq is not None else np.array([DEFAULT_FREQ])
-    return bias_in.stage(config).two_port(f, "y", z0)
-
-
 @app.command("params")
 @bias_options
 def params_cmd(bias_in: BiasInputs, config: ConfigOpt = "ce", kind: KindOpt = "y",
                freq: FreqOpt = None, z0: Z0Opt = "50", given: ParamsOpt = None,
-               polar: PolarOpt = False, as_json: JsonOpt = False) -> None:
+               touchstone: TouchstoneOpt = None, polar: PolarOpt = False, as_json: JsonOpt = False) -> None:
     """Two-port parameters of a stage (or of a given two-port) in any kind, at each --freq (default 1 kHz)."""
     kind = _check_kind(kind)
     z0v = parse_z0(z0)
-    tp = _stage_or_given(bias_in, given, config, parse_freqs(freq), z0v).to(kind, z0v)
+    tp = two_port_input(bias_in, given, touchstone, config, parse_freqs(freq), z0v, DEFAULT_FREQ).to(kind, z0v)
     if as_json:
         emit_json(twoport_json(tp))
     else:
@@ -142,7 +123,7 @@ def crosscheck_cmd(
     config: Annotated[Optional[list[str]], typer.Option(
         "--config", "-c", help="Configuration(s) to check; repeatable (default: ce, cb, cc).",
         show_default=False)] = None,
-    freq: FreqOpt = None, z0: Z0Opt = "50", given: ParamsOpt = None,
+    freq: FreqOpt = None, z0: Z0Opt = "50", given: ParamsOpt = None, touchstone: TouchstoneOpt = None,
     tol: Annotated[str, typer.Option("--tol", help="Largest acceptable relative deviation.")] = "1e-9",
     as_json: JsonOpt = False,
 ) -> None:
@@ -154,19 +135,28 @@ def crosscheck_cmd(
     if tolerance <= 0:
         raise InputError(f"tol: expected a positive tolerance, got {tol}")
     z0v = parse_z0(z0)
-    f = parse_freqs(freq, default=list(np.logspace(3, 10, 15)))
-    configs = [c.lower() for c in (config or (["ce", "cb", "cc"] if given is None else ["ce"]))]
+    from_device = given is None and touchstone is None
+    f = parse_freqs(freq, default=list(np.logspace(3, 10, 15))) if from_device else parse_freqs(freq)
+    if config:
+        configs = [c.lower() for c in config]
+    elif not from_device:
+        configs = ["ce"]
+    else:
+        from ..fet import is_fet_model
+
+        configs = ["cs", "cg", "cd"] if is_fet_model(bias_in.model()) else ["ce", "cb", "cc"]
     results = {}
     for c in configs:
-        tp = _stage_or_given(bias_in, given, c, f if given is None else parse_freqs(freq), z0v)
+        tp = two_port_input(bias_in, given, touchstone, c, f, z0v, DEFAULT_FREQ)
         results[c] = crosscheck(tp, tolerance)
+        n_points = len(tp)
     worst_c = max(results, key=lambda c: results[c].max_rel_error)
     worst = results[worst_c]
     checked = sum(r.checked for r in results.values())
     ok = all(r.ok for r in results.values())
     if as_json:
         emit_json({"max_rel_error": worst.max_rel_error, "tolerance": tolerance, "checked": checked,
-                   "points": len(f) if given is None else (1 if freq is None else len(f)),
+                   "points": n_points,
                    "worst": {"config": worst_c, "pair": "->".join(worst.worst) if worst.worst else None},
                    "skipped": {c: list(r.skipped) for c, r in results.items() if r.skipped},
                    "unchecked": {c: list(r.unchecked) for c, r in results.items() if r.unchecked},

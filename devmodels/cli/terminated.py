@@ -11,11 +11,12 @@ from typing import Annotated, Optional
 import numpy as np
 import typer
 
-from ..exceptions import FileFormatError, InputError
+from ..exceptions import InputError
 from ..units import format_complex, format_si, parse_quantity
 from .app import app
-from .common import (FreqOpt, JsonOpt, ParamsOpt, Z0Opt, BiasInputs, bias_options, emit_json, jsonable,
-                     parse_freqs, parse_given, parse_z0, print_table, print_twoport, twoport_json)
+from .common import (FreqOpt, JsonOpt, ParamsOpt, TouchstoneOpt, Z0Opt, BiasInputs, bias_options, emit_json,
+                     jsonable, parse_freqs, parse_z0, print_table, print_twoport, two_port_input,
+                     twoport_json)
 
 #: Default source and load impedances, ohm.
 DEFAULT_RS, DEFAULT_RL = "50", "1k"
@@ -35,8 +36,6 @@ RlOpt = Annotated[str, typer.Option(
     "--rl", help="Load impedance, ohm: a resistance, complex R+jX, or 'open' for no load.")]
 PlotOpt = Annotated[Optional[Path], typer.Option(
     "--plot", help="Also draw the results into FILE.png or FILE.svg.", show_default=False)]
-TouchstoneOpt = Annotated[Optional[Path], typer.Option(
-    "--touchstone", help="A two-port Touchstone file (.s2p, .ts) instead of a bias point.", show_default=False)]
 
 def _split_complex(s: str) -> tuple[str, str, str] | None:
     """``'1k-j200'`` -> ('1k', '-', '200'); None when there is no imaginary part."""
@@ -93,88 +92,6 @@ def _zjson(z: complex):
 
 
 # --- the two-port under analysis ---------------------------------------------------------
-def read_touchstone(path: Path, freq: np.ndarray | None, config: str | None = None):
-    """A TwoPort (S) from a two-port Touchstone file, at ``freq`` (interpolated) or at every point."""
-    import warnings
-
-    from ..twoport import TwoPort
-
-    p = Path(path)
-    if not p.is_file():
-        raise FileFormatError(f"touchstone: cannot read {str(p)!r}: no such file")
-    try:
-        import skrf
-        from skrf.io.touchstone import Touchstone
-
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")
-            ts = Touchstone(str(p))
-            net = skrf.Network(str(p))
-    except Exception as exc:  # noqa: BLE001 - any parser failure is a malformed file
-        msg = " ".join(str(exc).split())[:160] or type(exc).__name__
-        raise FileFormatError(f"touchstone: cannot read {p.name}: not a valid Touchstone file ({msg})") from None
-    if net.nports != 2:
-        raise FileFormatError(f"touchstone: {p.name} holds a {net.nports}-port; expected a two-port")
-    f = np.asarray(net.f, dtype=float)
-    if f.size == 0:
-        raise FileFormatError(f"touchstone: {p.name} has no data points")
-    z0 = np.asarray(net.z0)
-    if np.any(z0.imag != 0):
-        raise FileFormatError(f"touchstone: {p.name} has a complex reference impedance; only real ones "
-                              "are supported")
-    if np.any(z0.real != z0.real[:1]):
-        raise FileFormatError(f"touchstone: {p.name} has a reference impedance that changes with frequency; "
-                              "not supported")
-    z01, z02 = float(z0[0, 0].real), float(z0[0, 1].real)
-    if z01 <= 0 or z02 <= 0:
-        raise FileFormatError(f"touchstone: {p.name} has a reference resistance <= 0 ohm")
-    if ts.parameter in ("y", "h", "g") and ts.version.startswith("1"):
-        # Touchstone 1.x normalises Y, H and G by R (Y*R; h11/R, h22*R; g11*R, g22/R);
-        # undo that from the raw values ourselves (see devmodels.export).
-        raw = np.asarray(ts.s_flat).reshape(-1, 2, 2).transpose(0, 2, 1)  # file order 11 21 12 22
-        r = z01
-        scale = {"y": ((r, r), (r, r)), "h": ((1 / r, 1), (1, r)), "g": ((r, 1), (1, 1 / r))}[ts.parameter]
-        tp = TwoPort(f, raw / np.asarray(scale), ts.parameter, (z01, z02), config, p.name).to("s")
-    else:
-        tp = TwoPort(f, net.s, "s", (z01, z02), config, p.name)
-    if not np.all(np.isfinite(tp.data)):
-        raise FileFormatError(f"touchstone: {p.name} holds values that are not finite numbers")
-    if freq is None:
-        return tp
-    lo, hi = f.min(), f.max()
-    bad = freq[(freq < lo) | (freq > hi)]
-    if bad.size:
-        raise InputError(f"freq: {format_si(float(bad[0]), 'Hz')} is outside the file's range "
-                         f"{format_si(float(lo), 'Hz')} to {format_si(float(hi), 'Hz')}")
-    order = np.argsort(f)
-    flat = tp.data.reshape(-1, 4)[order]
-    cols = [np.interp(freq, f[order], flat[:, k].real) + 1j * np.interp(freq, f[order], flat[:, k].imag)
-            for k in range(4)]
-    return TwoPort(freq, np.stack(cols, axis=1).reshape(-1, 2, 2), "s", (z01, z02), config, p.name)
-
-
-def _two_port(bias_in: BiasInputs, given: str | None, touchstone: Path | None, config: str,
-              freq: np.ndarray | None, z0):
-    """The two-port to analyse: from a bias point, from --params or from --touchstone."""
-    from ..configs import check_config
-
-    check_config(config)
-    if given is not None and touchstone is not None:
-        raise InputError("params: give either --params or --touchstone, not both")
-    if given is not None or touchstone is not None:
-        if bias_in.given():
-            what = "--params" if given is not None else "--touchstone"
-            raise InputError(f"{what.lstrip('-')}: give either a two-port ({what}) or a bias point, not both")
-        if given is not None:
-            return parse_given(given, z0, freq, config)
-        return read_touchstone(touchstone, freq, config)
-    if not bias_in.given():
-        raise InputError("bias point: missing; give a bias file, bias options (--ic, --vce, --beta, ...), "
-                         "--params or --touchstone")
-    f = freq if freq is not None else np.array([DEFAULT_FREQ])
-    return bias_in.stage(config).two_port(f, "y", z0)
-
-
 def _terminations(rs: str, rl: str) -> tuple[complex, complex]:
     return parse_impedance(rs, "rs"), parse_impedance(rl, "rl", allow_open=True)
 
@@ -257,7 +174,7 @@ def gain_cmd(bias_in: BiasInputs, config: ConfigOpt = "ce", rs: RsOpt = DEFAULT_
     config = config.lower()
     zs, zl = _terminations(rs, rl)
     z0v = parse_z0(z0)
-    tp = _two_port(bias_in, given, touchstone, config, parse_freqs(freq), z0v)
+    tp = two_port_input(bias_in, given, touchstone, config, parse_freqs(freq), z0v)
     res = terminate(tp, zs, zl, z0v)
     if plot is not None:
         from ..plotting import plot_report
