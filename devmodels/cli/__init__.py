@@ -10,10 +10,11 @@ from __future__ import annotations
 import sys
 
 from .app import app
+# Each module registers its commands on `app`; `devmodels --help` lists them in this order.
+from . import core  # noqa: F401  (model, params, reconfigure, crosscheck)
+from . import terminated  # noqa: F401  (gain, compare, sweep)
 from . import biasnet  # noqa: F401  (bias, spread; the [network] hook)
-from . import core  # noqa: F401  (registers commands)
-from . import fetchain  # noqa: F401
-from . import terminated  # noqa: F401
+from . import fetchain  # noqa: F401  (cascade, connect, formula; FET options)
 
 __all__ = ["app", "main"]
 
