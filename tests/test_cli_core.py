@@ -177,3 +177,24 @@ def test_params_and_crosscheck_read_a_touchstone_file(run, run_json, tmp_path):
     x = run_json("crosscheck", "--touchstone", str(out))
     assert x["points"] == 7 and x["max_rel_error"] < 1e-9
     assert_one_line_error(run, "params", "--touchstone", str(out), "--ic", "1mA", match="either")
+
+
+def test_ratings_warn_once_on_stderr(run, tmp_path):
+    # Safety: a bias point above the power rating or VCEO is warned about (once per command,
+    # even when three configurations are built), and --json output stays one clean object.
+    hot = ["--ic", "50mA", "--vce", "10V", "--beta", "100", "--pmax", "250mW", "--vceo", "8V"]
+    code, out, err = run("model", *hot, "--json")
+    assert code == 0 and json.loads(out)["power"] == pytest.approx(0.5)
+    lines = err.strip().splitlines()
+    assert len(lines) == 2 and all(s.startswith("devmodels: warning:") for s in lines)
+    assert "500 mW" in lines[0] and "pmax = 250 mW" in lines[0] and "burn" in lines[0]
+    assert "vceo = 8 V" in lines[1]
+    code, out, err = run("compare", *hot, "--json")
+    assert code == 0 and len(err.strip().splitlines()) == 2
+    code, out, err = run("model", "--ic", "1mA", "--vce", "5V", "--beta", "100", "--pmax", "250mW")
+    assert code == 0 and err == ""  # within the rating: no warning
+    fet = str(EXAMPLES / "fet" / "nmos_lna_input.toml")  # 4 mA at 1.2 V: 4.8 mW
+    code, out, err = run("model", fet, "--pmax", "1mW", "--json")
+    assert code == 0 and "4.8 mW" in err and len(err.strip().splitlines()) == 1
+    assert_one_line_error(run, "model", "--ic", "1mA", "--vce", "5", "--beta", "100", "--pmax", "-1",
+                          match="pmax")

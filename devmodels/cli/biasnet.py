@@ -127,12 +127,13 @@ def network_bipolar(bias_in: BiasInputs):
             raise InputError(f"{name}: the bias file describes a bias network, which sets IC and VCE; "
                              f"remove '{name}' (or the [network] table)")
     op = solve_inputs(*_bias_in_sources(bias_in))
-    for w in op.warnings:
-        warn(w)
+    for w in op.warnings:  # the network's own rating check (power, VCE and the supply)
+        bias_in.warn_once(w)
     op.bipolar_bias()  # raises BiasError when the network is not in the active region
     tables = {k: v for k, v in bias_in.tables.items() if k != "network"}
     opts = dict(bias_in.options, ic=abs(op.ic), vce=abs(op.vce), beta=op.beta)
-    return BiasInputs(None, opts, dict(bias_in.flat), tables).bipolar()
+    solved = BiasInputs(None, opts, dict(bias_in.flat), tables, ratings_done=True)
+    return solved.bipolar()
 
 
 # --------------------------------------------------------------------------- bias command
@@ -275,9 +276,6 @@ def spread_cmd(
     vbe: _opt("--vbe", "VBE(on) at 300 K, V (default 0.7 V; used with a bias network).", RATING_PANEL) = None,
     vbe_tc: _opt("--vbe-tc", "VBE(on) temperature coefficient, V/K (default -2mV/K).", RATING_PANEL) = None,
     beta_tc: _opt("--beta-tc", "Beta temperature coefficient, %/K (default 0.5).", RATING_PANEL) = None,
-    pmax: _opt("--pmax", "Power rating, W: warn when any sample dissipates more.", RATING_PANEL) = None,
-    vceo: _opt("--vceo", "Breakdown rating VCEO, V: warn when any sample (or VCC) is above it.",
-               RATING_PANEL) = None,
     plot: Annotated[Optional[Path], typer.Option("--plot", help="Draw histograms into FILE.png.",
                                                  show_default=False)] = None,
     as_json: JsonOpt = False,
@@ -286,7 +284,7 @@ def spread_cmd(
     from ..spread import SpreadRanges, SpreadSetup, run_spread
     from .common import parse_z0
 
-    own = {"vbe": vbe, "vbe_tc": vbe_tc, "beta_tc": beta_tc, "pmax": pmax, "vceo": vceo, "tol": tol,
+    own = {"vbe": vbe, "vbe_tc": vbe_tc, "beta_tc": beta_tc, "tol": tol,
            "beta_min": beta_min, "beta_max": beta_max, "beta_typ": beta_typ, "temp_min": temp_min,
            "temp_max": temp_max}
     table = _network_table(bias_in.tables, str(bias_in.file or "bias file"))

@@ -46,6 +46,8 @@ BIAS_OPTIONS: list[tuple[str, str, str]] = [
     ("vce_sat", "V", "VCE below which the point counts as saturated, V (default 0.3 V)."),
     ("rdeg", "Ohm", "External emitter degeneration resistor, ohm (default: none)."),
     ("rfb", "Ohm", "External collector-base feedback resistor, ohm (default: none)."),
+    ("pmax", "W", "Power rating, W: warn when the dissipation (IC VCE, ID VDS) is above it."),
+    ("vceo", "V", "Breakdown rating VCEO, V: warn when VCE is above it."),
     # FETs (device nmos, pmos, njfet, pjfet); read by cli/fetchain.fet_bias_or_none
     ("id", "A", "FET drain current, A (e.g. 2mA)."),
     ("vds", "V", "FET drain-source voltage, V (must be >= the overdrive)."),
@@ -95,10 +97,42 @@ class BiasInputs:
     options: dict[str, Any] = field(default_factory=dict)
     flat: dict[str, Any] = field(default_factory=dict)
     tables: dict[str, Any] = field(default_factory=dict)
+    #: Set once the ratings have been checked (a solved bias network checks its own).
+    ratings_done: bool = field(default=False, repr=False)
+    _warned: set = field(default_factory=set, repr=False)
 
     def __post_init__(self) -> None:
         if self.file is not None:
             self.flat, self.tables = load_bias_file(self.file)
+
+    def warn_once(self, message: str) -> None:
+        """A warning on stderr, once per command however often the bias point is built."""
+        if message not in self._warned:
+            self._warned.add(message)
+            warn(message)
+
+    def check_ratings(self, power: float, vce: float | None) -> None:
+        """Warn (once) when the dissipation is above ``pmax`` or VCE above ``vceo``.
+
+        Parameters
+        ----------
+        power : float
+            Dissipation of the bias point in W.
+        vce : float or None
+            Collector-emitter voltage magnitude in V (None for a FET: only pmax applies).
+        """
+        if self.ratings_done:
+            return
+        self.ratings_done = True
+        from ..network import rating_warnings
+
+        pmax, vceo = self.value("pmax", "W"), self.value("vceo", "V")
+        for name, v, unit in (("pmax", pmax, "W"), ("vceo", vceo, "V")):
+            if v is not None and v <= 0:
+                raise InputError(f"{name}: expected a positive rating in {unit}, got {v:g}")
+        for w in rating_warnings(power, 0.0 if vce is None else vce, 0.0, pmax=pmax,
+                                 vceo=None if vce is None else vceo):
+            self.warn_once(w)
 
     def raw(self, name: str, default=None):
         """The raw value of ``name``: option if given, else file, else ``default``."""
@@ -137,7 +171,7 @@ class BiasInputs:
         from ..bias import BipolarBias, DEFAULT_TEMP, DEFAULT_VCE_SAT
 
         device = (self.value("device", "str") or "npn").lower()
-        return BipolarBias(
+        bias = BipolarBias(
             ic=self.require("ic", "A", "collector current in A, e.g. 1mA"),
             vce=self.require("vce", "V", "collector-emitter voltage in V, e.g. 5V"),
             beta=self.require("beta", "", "current gain hfe, e.g. 100"),
@@ -152,6 +186,8 @@ class BiasInputs:
             rex=self.value("rex", "Ohm", 0.0),
             vce_sat=self.value("vce_sat", "V", DEFAULT_VCE_SAT),
         )
+        self.check_ratings(bias.power, bias.vce)
+        return bias
 
     def model(self):
         """The small-signal device model (hybrid-pi for a bipolar device, FetModel for a FET)."""

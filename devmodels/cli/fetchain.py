@@ -83,11 +83,14 @@ def fet_bias_or_none(bias_in: BiasInputs):
         rg=_val(bias_in, "rg", "Ohm", 0.0),
     )
     if device.endswith("mos"):
-        return MosfetBias(vov=_val(bias_in, "vov", "V"), kn=_val(bias_in, "kn", ""),
+        bias = MosfetBias(vov=_val(bias_in, "vov", "V"), kn=_val(bias_in, "kn", ""),
                           gamma=_val(bias_in, "gamma", ""), vsb=_val(bias_in, "vsb", "V", 0.0),
                           phi=_val(bias_in, "phi", "V", DEFAULT_SURFACE_POTENTIAL), **common)
-    return JfetBias(idss=_need(bias_in, "idss", "A", "drain current at VGS = 0 in A, e.g. 8mA"),
-                    vp=_need(bias_in, "vp", "V", "pinch-off voltage in V, e.g. -2V"), **common)
+    else:
+        bias = JfetBias(idss=_need(bias_in, "idss", "A", "drain current at VGS = 0 in A, e.g. 8mA"),
+                        vp=_need(bias_in, "vp", "V", "pinch-off voltage in V, e.g. -2V"), **common)
+    bias_in.check_ratings(bias.id * bias.vds, None)  # pmax (a FET has no vceo)
+    return bias
 
 
 def fet_model_or_none(bias_in: BiasInputs):
