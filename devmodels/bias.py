@@ -7,7 +7,7 @@ not a forward-active bias point.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Literal
 
 from .exceptions import BiasError, InputError
@@ -68,7 +68,6 @@ class BipolarBias:
     rcx: float = 0.0
     rex: float = 0.0
     vce_sat: float = DEFAULT_VCE_SAT
-    notes: tuple[str, ...] = field(default=(), compare=False)
 
     def __post_init__(self) -> None:
         if self.device not in ("npn", "pnp"):

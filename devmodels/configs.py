@@ -44,7 +44,15 @@ def check_config(config: str, family: str | None = None) -> str:
 
 
 def config_y(indefinite: np.ndarray, config: str) -> np.ndarray:
-    """Y parameters (F, 2, 2) of a configuration from an indefinite matrix (F, 3, 3)."""
+    """Y parameters (F, 2, 2) of a configuration from an indefinite matrix (F, 3, 3).
+
+    Parameters
+    ----------
+    indefinite : ndarray, complex, shape (F, 3, 3)
+        Indefinite admittance matrix in S, node order (b, c, e) or (g, d, s).
+    config : str
+        Configuration (see :data:`CONFIG_TERMINALS`).
+    """
     p1, p2, _ = CONFIG_TERMINALS[check_config(config)]
     y = np.empty((indefinite.shape[0], 2, 2), dtype=complex)
     for i, a in enumerate((p1, p2)):  # four strided copies: faster than fancy indexing
@@ -54,7 +62,15 @@ def config_y(indefinite: np.ndarray, config: str) -> np.ndarray:
 
 
 def indefinite_from_y(y: np.ndarray, config: str) -> np.ndarray:
-    """Indefinite matrix (F, 3, 3) of a three-terminal device from its Y in ``config``."""
+    """Indefinite matrix (F, 3, 3) of a three-terminal device from its Y in ``config``.
+
+    Parameters
+    ----------
+    y : array_like, complex, shape (F, 2, 2)
+        Y parameters in S, ports as in :data:`CONFIG_TERMINALS` for ``config``.
+    config : str
+        The configuration ``y`` is given in.
+    """
     p1, p2, k = CONFIG_TERMINALS[check_config(config)]
     y = np.asarray(y, dtype=complex)
     Y3 = np.empty((y.shape[0], 3, 3), dtype=complex)
