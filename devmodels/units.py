@@ -57,8 +57,9 @@ def parse_quantity(text, unit: str, name: str) -> float:
         s = str(text).strip()
         if not s:
             raise InputError(f"{name}: expected a number{_in(unit)}, got an empty value")
-        if _NUMBER.match(s):
-            v = float(s)
+        fast = _fast_quantity(s, unit)
+        if fast is not None:
+            v = fast
         else:
             from quantiphy import Quantity, QuantiPhyError
 
@@ -75,6 +76,29 @@ def parse_quantity(text, unit: str, name: str) -> float:
     if not math.isfinite(v):
         raise InputError(f"{name}: expected a finite number{_in(unit)}, got {text!r}")
     return v
+
+
+_SI_PREFIX = {"y": 1e-24, "z": 1e-21, "a": 1e-18, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6,
+              "\u00b5": 1e-6, "\u03bc": 1e-6, "m": 1e-3, "k": 1e3, "K": 1e3, "M": 1e6, "G": 1e9,
+              "T": 1e12, "P": 1e15, "E": 1e18}
+_PREFIXED = re.compile(r"^([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*)$")
+
+
+def _fast_quantity(s: str, unit: str) -> float | None:
+    """The common forms (``1e-3``, ``2.2k``, ``1 mA``, ``2.2kohm``) without loading quantiphy.
+
+    Returns None for anything else, which then goes to quantiphy (and its error messages).
+    """
+    m = _PREFIXED.match(s)
+    if not m:
+        return None
+    num, rest = m.groups()
+    aliases = UNIT_ALIASES.get(unit, (unit,))
+    if rest == "" or (rest in aliases and rest):
+        return float(num)
+    if rest[0] in _SI_PREFIX and (rest[1:] == "" or rest[1:] in aliases):
+        return float(num) * _SI_PREFIX[rest[0]]
+    return None
 
 
 def _in(unit: str) -> str:

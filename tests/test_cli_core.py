@@ -198,3 +198,17 @@ def test_ratings_warn_once_on_stderr(run, tmp_path):
     assert code == 0 and "4.8 mW" in err and len(err.strip().splitlines()) == 1
     assert_one_line_error(run, "model", "--ic", "1mA", "--vce", "5", "--beta", "100", "--pmax", "-1",
                           match="pmax")
+
+
+@pytest.mark.parametrize("text,unit,value", [
+    ("1mA", "A", 1e-3), ("1 mA", "A", 1e-3), ("2.2k", "Ohm", 2200.0), ("2.2kohm", "Ohm", 2200.0),
+    ("2.2kΩ", "Ohm", 2200.0), ("300MHz", "Hz", 3e8), ("2pF", "F", 2e-12), ("25u", "", 25e-6),
+    ("1µA", "A", 1e-6), ("1μA", "A", 1e-6), ("1Mohm", "Ohm", 1e6), ("1 mohm", "Ohm", 1e-3),
+    ("4.7R", "Ohm", 4.7), ("1e-3", "", 1e-3), ("-1mA", "A", -1e-3),
+])
+def test_si_prefixed_values(text, unit, value):
+    # SI prefixes as in the BIPM SI Brochure (9th ed., table 7); "R" as the ohm sign is the
+    # resistor marking of IEC 60062 (from memory).
+    from devmodels.units import parse_quantity
+
+    assert parse_quantity(text, unit, "x") == pytest.approx(value, rel=1e-12)

@@ -124,12 +124,14 @@ class BiasInputs:
         if self.ratings_done:
             return
         self.ratings_done = True
-        from ..network import rating_warnings
-
         pmax, vceo = self.value("pmax", "W"), self.value("vceo", "V")
+        if pmax is None and vceo is None:
+            return
         for name, v, unit in (("pmax", pmax, "W"), ("vceo", vceo, "V")):
             if v is not None and v <= 0:
                 raise InputError(f"{name}: expected a positive rating in {unit}, got {v:g}")
+        from ..network import rating_warnings
+
         for w in rating_warnings(power, 0.0 if vce is None else vce, 0.0, pmax=pmax,
                                  vceo=None if vce is None else vceo):
             self.warn_once(w)
@@ -213,6 +215,25 @@ class BiasInputs:
         return Stage(model, check_device_config(model, config), rdeg, rfb)
 
 
+@functools.lru_cache(maxsize=None)
+def _shared_bias_parameters() -> tuple[inspect.Parameter, tuple[inspect.Parameter, ...]]:
+    """The bias-file argument and the bias options, made once and shared by every command
+    (building ~30 annotated parameters per command was most of the command line's start-up)."""
+    file_param = inspect.Parameter(
+        "bias_file", inspect.Parameter.POSITIONAL_OR_KEYWORD, default=None,
+        annotation=Annotated[Optional[Path], typer.Argument(
+            help="TOML bias file; its top-level keys are the option names (ic = \"1mA\").",
+            show_default=False)])
+    extra = []
+    for name, _unit, help_ in BIAS_OPTIONS:
+        flag = "--" + name.rstrip("_").replace("_", "-")
+        extra.append(inspect.Parameter(
+            name, inspect.Parameter.KEYWORD_ONLY, default=None,
+            annotation=Annotated[Optional[str], typer.Option(flag, help=help_, rich_help_panel=PANEL,
+                                                             show_default=False)]))
+    return file_param, tuple(extra)
+
+
 def bias_options(func: Callable) -> Callable:
     """Add the bias-file argument and the bias options to a command.
 
@@ -224,18 +245,7 @@ def bias_options(func: Callable) -> Callable:
     hints = typing.get_type_hints(func, include_extras=True)
     own = [p.replace(annotation=hints.get(p.name, p.annotation))
            for p in sig.parameters.values() if p.name != "bias_in"]
-    file_param = inspect.Parameter(
-        "bias_file", inspect.Parameter.POSITIONAL_OR_KEYWORD, default=None,
-        annotation=Annotated[Optional[Path], typer.Argument(
-            help="TOML bias file; its top-level keys are the option names (ic = \"1mA\").",
-            show_default=False)])
-    extra = []
-    for name, unit, help_ in BIAS_OPTIONS:
-        flag = "--" + name.rstrip("_").replace("_", "-")
-        extra.append(inspect.Parameter(
-            name, inspect.Parameter.KEYWORD_ONLY, default=None,
-            annotation=Annotated[Optional[str], typer.Option(flag, help=help_, rich_help_panel=PANEL,
-                                                             show_default=False)]))
+    file_param, extra = _shared_bias_parameters()
 
     @functools.wraps(func)
     def wrapper(*args, **kwargs):
@@ -243,7 +253,7 @@ def bias_options(func: Callable) -> Callable:
         kwargs["bias_in"] = BiasInputs(kwargs.pop("bias_file", None), opts)
         return func(*args, **kwargs)
 
-    params = [file_param] + [p.replace(kind=inspect.Parameter.KEYWORD_ONLY) for p in own] + extra
+    params = [file_param] + [p.replace(kind=inspect.Parameter.KEYWORD_ONLY) for p in own] + list(extra)
     wrapper.__signature__ = sig.replace(parameters=params)
     return wrapper
 
