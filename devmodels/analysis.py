@@ -235,16 +235,17 @@ def _terminate_checked(abcd: np.ndarray, zs: np.ndarray, zl: np.ndarray,
         yl = 1.0 / zl
     if open_load.any():
         yl[open_load] = 0.0
-    num_in = a + b * yl
-    den_in = c + d * yl
-    den_s = num_in + zs * den_in
+    with np.errstate(over="ignore", invalid="ignore"):  # extreme terminations: NaN-marked below
+        num_in = a + b * yl
+        den_in = c + d * yl
+        den_s = num_in + zs * den_in
+        den_out = a + zs * c
     if np.any(den_s == 0):
         raise SingularParameterError(
             "rs, rl: this source and load leave the network without a solution (it would oscillate)")
-    den_out = a + zs * c
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         av = _nan_where_not_finite(np.divide(1.0, num_in, out=o.get("av")))
-        avs = np.divide(1.0, den_s, out=o.get("avs"))
+        avs = _nan_where_not_finite(np.divide(1.0, den_s, out=o.get("avs")))
         ai = _nan_where_not_finite(np.divide(yl, den_in, out=o.get("ai")))
         zin = _nan_where_not_finite(np.divide(num_in, den_in, out=o.get("zin")))
         zout = _nan_where_not_finite(np.divide(b + zs * d, den_out, out=o.get("zout")))
