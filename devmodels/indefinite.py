@@ -28,6 +28,7 @@ __all__ = [
     "stamp_cccs_branch",
     "kron_eliminate",
     "device_indefinite",
+    "assemble_block",
     "check_freq",
     "Stampable",
 ]
@@ -138,9 +139,6 @@ def device_indefinite(model: Stampable, freq, *, r_degen: float = 0.0,
         raise InputError(f"r_degen: expected a resistance >= 0 ohm, got {r_degen:g}")
     if r_feedback is not None and (r_feedback <= 0 or not math.isfinite(r_feedback)):
         raise InputError(f"r_feedback: expected a positive resistance in ohm, got {r_feedback:g}")
-    own = model.series_resistances() if hasattr(model, "series_resistances") else (
-        model.rb, model.rcx, model.rex)
-    series = (own[0], own[1], own[2] + r_degen)
     extra = ()
     if hasattr(model, "series_resistances"):  # a four-terminal model: body to the common terminal
         from .configs import CONFIG_TERMINALS
@@ -148,24 +146,64 @@ def device_indefinite(model: Stampable, freq, *, r_degen: float = 0.0,
         if config is None:
             raise InputError("config: this device model needs the configuration (its body terminal)")
         extra = (CONFIG_TERMINALS[config][2],)
-    n = 3 + sum(1 for r in series if r > 0)
     out = np.empty((f.size, 3, 3), dtype=complex)
     for start in range(0, f.size, FREQ_BLOCK):
         omega = 2 * math.pi * f[start:start + FREQ_BLOCK]
-        Y = np.zeros((omega.size, n, n), dtype=complex)
-        inner = []
-        nxt = 3
-        for ext, r in enumerate(series):
-            if r > 0:
-                stamp_admittance(Y, ext, nxt, 1.0 / r)
-                inner.append(nxt)
-                nxt += 1
-            else:
-                inner.append(ext)
-        model.intrinsic_stamp(omega, Y, *inner, *extra)
-        if r_feedback is not None:
-            stamp_admittance(Y, 0, 1, 1.0 / r_feedback)
-        for k in range(n - 1, 2, -1):
-            Y = kron_eliminate(Y, k)
-        out[start:start + omega.size] = Y
+        out[start:start + omega.size] = assemble_block(model, omega, omega.size, r_degen=r_degen,
+                                                       r_feedback=r_feedback, body=extra)
     return out
+
+
+def assemble_block(model: Stampable, omega, n: int, *, r_degen=0.0, r_feedback=None,
+                   body: tuple[int, ...] = ()) -> np.ndarray:
+    """Indefinite matrix (n, 3, 3) of one block of points: stamping, then Kron reduction.
+
+    The points are frequencies (``omega`` of shape (n,)) or samples of a spread (``omega`` a
+    scalar and the model's element values, ``r_degen`` and ``r_feedback`` arrays of shape
+    (n,)); no check of the values is done here.
+
+    Parameters
+    ----------
+    model : Stampable
+        The small-signal model (element values scalars or arrays of shape (n,)).
+    omega : float or ndarray
+        Angular frequency in rad/s.
+    n : int
+        Number of points.
+    r_degen, r_feedback : float, ndarray or None
+        External emitter (source) and collector-base (drain-gate) resistances in ohm.
+    body : tuple of int
+        The node a four-terminal model ties its body to (empty for a bipolar model).
+
+    Raises
+    ------
+    InputError
+        A series resistance that is zero for some points and not for others.
+    """
+    own = model.series_resistances() if hasattr(model, "series_resistances") else (
+        model.rb, model.rcx, model.rex)
+    series = (own[0], own[1], own[2] + r_degen)
+    present = []
+    for name, r in zip(("base/gate", "collector/drain", "emitter/source"), series):
+        positive = np.asarray(r) > 0
+        if positive.any() and not positive.all():
+            raise InputError(f"series resistances: the {name} resistance must be > 0 for every point "
+                             "or for none")
+        present.append(bool(positive.any()))
+    size = 3 + sum(present)
+    Y = np.zeros((n, size, size), dtype=complex)
+    inner = []
+    nxt = 3
+    for ext, (r, here) in enumerate(zip(series, present)):
+        if here:
+            stamp_admittance(Y, ext, nxt, 1.0 / np.asarray(r))
+            inner.append(nxt)
+            nxt += 1
+        else:
+            inner.append(ext)
+    model.intrinsic_stamp(omega, Y, *inner, *body)
+    if r_feedback is not None:
+        stamp_admittance(Y, 0, 1, 1.0 / np.asarray(r_feedback))
+    for k in range(size - 1, 2, -1):
+        Y = kron_eliminate(Y, k)
+    return Y

@@ -193,5 +193,10 @@ class TModel:
         stamp_admittance(Y, c, e, _g(self.ro))
 
 
-def _g(r: float) -> float:
-    return 0.0 if math.isinf(r) else 1.0 / r
+def _g(r):
+    """Conductance of a resistance in ohm (0 for an infinite one); scalars or arrays."""
+    if np.ndim(r) == 0:
+        return 0.0 if math.isinf(r) else 1.0 / r
+    r = np.asarray(r, dtype=float)
+    with np.errstate(divide="ignore"):
+        return np.where(np.isinf(r), 0.0, 1.0 / r)
