@@ -11,7 +11,7 @@ from dataclasses import dataclass
 from typing import Literal
 
 from .exceptions import BiasError, InputError
-from .validate import check_number as _finite
+from .validate import check_number as _finite, p_type_magnitudes
 
 __all__ = ["BipolarBias", "DEFAULT_VCE_SAT", "DEFAULT_TEMP"]
 
@@ -74,13 +74,7 @@ class BipolarBias:
             raise InputError(f"device: expected npn or pnp for a bipolar bias point, got {self.device!r}")
         ic = _finite("ic", self.ic, "A")
         vce = _finite("vce", self.vce, "V")
-        if self.device == "pnp":
-            if ic < 0 and vce <= 0:
-                ic, vce = -ic, -vce
-            elif (ic < 0) != (vce < 0):
-                raise BiasError(
-                    f"ic, vce: for a pnp give both as magnitudes or both with the pnp sign, "
-                    f"got ic={ic:g} A, vce={vce:g} V")
+        ic, vce = p_type_magnitudes(("ic", "vce"), self.device, ic, vce, self.device == "pnp")
         if ic <= 0:
             raise BiasError(f"ic: expected a positive collector current in A, got {ic:g} "
                             "(not a forward-active bias point)")

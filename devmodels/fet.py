@@ -48,7 +48,7 @@ from .biasfile import register_keys
 from .constants import BJT_CONFIGS, FET_CONFIGS
 from .exceptions import BiasError, InputError
 from .indefinite import device_indefinite, stamp_admittance, stamp_vccs
-from .validate import check_number as _num
+from .validate import check_number as _num, p_type_magnitudes
 
 __all__ = ["MosfetBias", "JfetBias", "FetModel", "FET_DEVICES", "DEFAULT_SURFACE_POTENTIAL",
            "check_device_config", "is_fet_model"]
@@ -66,23 +66,13 @@ register_keys({"id": "A", "vds": "V", "vov": "V", "kn": "A/V2", "lambda": "1/V",
                "vp": "V", "rg": "Ohm"})
 
 
-def _magnitudes(device: str, p_type: bool, id_: float, vds: float) -> tuple[float, float]:
-    """ID and VDS as magnitudes; a p-channel device may give both with its (negative) sign."""
-    if p_type and id_ < 0 and vds <= 0:
-        return -id_, -vds
-    if p_type and (id_ < 0) != (vds < 0):
-        raise BiasError(f"id, vds: for a {device} give both as magnitudes or both with the "
-                        f"p-channel sign, got id={id_:g} A, vds={vds:g} V")
-    return id_, vds
-
-
 def _check_common(obj, device_set: tuple[str, ...], family: str) -> None:
     if obj.device not in device_set:
         raise InputError(f"device: expected {' or '.join(device_set)} for a {family} bias point, "
                          f"got {obj.device!r}")
     id_ = _num("id", obj.id, "A")
     vds = _num("vds", obj.vds, "V")
-    id_, vds = _magnitudes(obj.device, obj.device.startswith("p"), id_, vds)
+    id_, vds = p_type_magnitudes(("id", "vds"), obj.device, id_, vds, obj.device.startswith("p"))
     if id_ <= 0:
         raise BiasError(f"id: expected a positive drain current in A, got {id_:g} "
                         "(not a saturation-region bias point)")

@@ -69,6 +69,7 @@ from .bias import DEFAULT_VCE_SAT, BipolarBias
 from .exceptions import BiasError, InputError
 from .temperature import BETA_TC_DEFAULT, T_REF, VBE_DEFAULT, VBE_TC_DEFAULT, beta_at, vbe_at
 from .units import format_si
+from .validate import check_number
 
 __all__ = ["NetworkKind", "NETWORK_KINDS", "REGIONS", "BiasNetwork", "OperatingPoint", "solve_arrays",
            "operating_point"]
@@ -81,17 +82,6 @@ REGIONS: tuple[str, ...] = ("active", "saturation", "cutoff")
 #: Resistors each network uses (the others must not be given).
 _USES = {"fixed": ("rb", "rc", "re"), "divider": ("r1", "r2", "rc", "re"),
          "collector-feedback": ("rb", "rc", "re")}
-
-
-def _resistor(name: str, value, *, positive: bool) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{name}: expected a resistance in ohm, got {value!r}") from None
-    if not math.isfinite(v) or v < 0 or (positive and v == 0):
-        want = "a positive resistance" if positive else "a resistance >= 0"
-        raise InputError(f"{name}: expected {want} in ohm, got {v:g}")
-    return v
 
 
 @dataclass(frozen=True, slots=True)
@@ -143,12 +133,12 @@ class BiasNetwork:
                 if v is None:
                     need = "r1 and r2" if self.kind == "divider" else "rb"
                     raise InputError(f"{name}: missing; a {self.kind} network needs {need} (ohm)")
-                object.__setattr__(self, name, _resistor(name, v, positive=True))
+                object.__setattr__(self, name, check_number(name, v, "ohm", positive=True))
             elif v is not None:
                 raise InputError(f"{name}: not part of a {self.kind} network (it uses "
                                  f"{', '.join(uses)})")
-        object.__setattr__(self, "rc", _resistor("rc", self.rc, positive=False))
-        object.__setattr__(self, "re", _resistor("re", self.re, positive=False))
+        object.__setattr__(self, "rc", check_number("rc", self.rc, "ohm", nonneg=True))
+        object.__setattr__(self, "re", check_number("re", self.re, "ohm", nonneg=True))
         tol = float(self.tol)
         if not (math.isfinite(tol) and 0 <= tol < 1):
             raise InputError(f"tol: expected a resistor tolerance from 0 to below 100 %, got {tol * 100:g} %")

@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import math
 
-from .exceptions import InputError
+from .exceptions import BiasError, InputError
 
-__all__ = ["check_number"]
+__all__ = ["check_number", "p_type_magnitudes"]
 
 
 def check_number(name: str, value, unit: str, *, positive: bool = False, nonneg: bool = False,
@@ -41,3 +41,29 @@ def check_number(name: str, value, unit: str, *, positive: bool = False, nonneg:
     if nonneg and v < 0:
         raise InputError(f"{name}: expected a value >= 0 in {unit}, got {v:g}")
     return v
+
+
+def p_type_magnitudes(names: tuple[str, str], device: str, current: float, voltage: float,
+                      p_type: bool) -> tuple[float, float]:
+    """Current and voltage of a bias point as magnitudes.
+
+    A p-type device (pnp, p-channel) may give both with its negative sign; one negative
+    and one positive is an error.
+
+    Parameters
+    ----------
+    names : (str, str)
+        Names of the current and the voltage (``("ic", "vce")``), for the message.
+    device : str
+        Device type, for the message.
+    current, voltage : float
+        The values as given, A and V.
+    p_type : bool
+        True for a pnp or p-channel device (n-type values are returned unchanged).
+    """
+    if p_type and current < 0 and voltage <= 0:
+        return -current, -voltage
+    if p_type and (current < 0) != (voltage < 0):
+        raise BiasError(f"{names[0]}, {names[1]}: for a {device} give both as magnitudes or both "
+                        f"with the {device}'s sign, got {names[0]}={current:g} A, {names[1]}={voltage:g} V")
+    return current, voltage
