@@ -104,12 +104,19 @@ def _columns(data: np.ndarray, polar: bool, order=((0, 0), (0, 1), (1, 0), (1, 1
     return out
 
 
+def touchstone1_scale(kind: str, r: float) -> np.ndarray:
+    """Factors (2, 2) by which Touchstone 1.1 normalises each element of ``kind`` (r in ohm).
+
+    Z is divided by R, Y multiplied by it; H and G are normalised element by element so
+    that every entry is dimensionless (h11/R, h22*R; g11*R, g22/R).  S is unchanged.
+    """
+    return np.asarray({"s": ((1, 1), (1, 1)), "z": ((1 / r, 1 / r), (1 / r, 1 / r)), "y": ((r, r), (r, r)),
+                       "h": ((1 / r, 1), (1, r)), "g": ((r, 1), (1, 1 / r))}[kind], dtype=float)
+
+
 def _normalised(tp: TwoPort, r: float) -> np.ndarray:
     """Touchstone 1.1 normalisation of Y, Z, H, G by the reference resistance ``r``."""
-    d = np.array(tp.data)
-    scale = {"s": ((1, 1), (1, 1)), "z": ((1 / r, 1 / r), (1 / r, 1 / r)), "y": ((r, r), (r, r)),
-             "h": ((1 / r, 1), (1, r)), "g": ((r, 1), (1, 1 / r))}[tp.kind]
-    return d * np.asarray(scale, dtype=float)
+    return tp.data * touchstone1_scale(tp.kind, r)
 
 
 def touchstone_text(tp: TwoPort, version: str = "1.1", polar: bool = False, comment: str = "") -> str:

@@ -75,9 +75,10 @@ def read_touchstone(path, freq: np.ndarray | None = None, config: str | None = N
         # Touchstone 1.x normalises Y, H and G by R (Y*R; h11/R, h22*R; g11*R, g22/R);
         # undo that from the raw values ourselves (see devmodels.export).
         raw = np.asarray(ts.s_flat).reshape(-1, 2, 2).transpose(0, 2, 1)  # file order 11 21 12 22
-        r = z01
-        scale = {"y": ((r, r), (r, r)), "h": ((1 / r, 1), (1, r)), "g": ((r, 1), (1, 1 / r))}[ts.parameter]
-        tp = TwoPort(f, raw / np.asarray(scale), ts.parameter, (z01, z02), config, p.name).to("s")
+        from .export import touchstone1_scale
+
+        scale = touchstone1_scale(ts.parameter, z01)
+        tp = TwoPort(f, raw / scale, ts.parameter, (z01, z02), config, p.name).to("s")
     else:
         tp = TwoPort(f, net.s, "s", (z01, z02), config, p.name)
     if not np.all(np.isfinite(tp.data)):
