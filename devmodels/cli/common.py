@@ -363,16 +363,14 @@ def warn(message: str) -> None:
 
 def points_json(tp) -> list[dict]:
     """The ``points`` list of the params/sweep JSON: one dict per frequency."""
-    freqs = [None] if tp.freq is None else [float(f) for f in tp.freq]
-    d = tp.data
-    return [{"freq": f, "11": d[i, 0, 0], "12": d[i, 0, 1], "21": d[i, 1, 0], "22": d[i, 1, 1]}
-            for i, f in enumerate(freqs)]
+    return twoport_json(tp)["points"]
 
 
 def twoport_json(tp) -> dict:
-    """The JSON object of ``params``/``sweep``/``reconfigure``."""
-    z0 = tp.z0[0] if tp.z0[0] == tp.z0[1] else list(tp.z0)
-    return {"config": tp.config, "kind": tp.kind, "z0": z0, "points": points_json(tp)}
+    """The JSON object of ``params``/``sweep``/``reconfigure`` (the library's params JSON)."""
+    from ..export import twoport_dict
+
+    return twoport_dict(tp)
 
 
 def print_twoport(tp, polar: bool = False, title: str | None = None) -> None:
