@@ -42,7 +42,7 @@ def main() -> None:
 
     import devmodels as dm
     from devmodels.analysis import terminate
-    from devmodels.network import BiasNetwork, operating_point
+    from devmodels.dcbias import BiasNetwork, operating_point
     from devmodels.spread import CHUNK, RESULTS, WORKERS, SpreadRanges, SpreadSetup, run_spread
 
     datasheet = dict(va=75.0, ft=250e6, cmu=2.5e-12, rb=120.0, rcx=3.0, rex=1.0)

@@ -18,9 +18,10 @@ from .configs import CONFIG_TERMINALS, config_y, indefinite_from_y, reconfigure
 from .constants import BOLTZMANN, ELEMENTARY_CHARGE, KINDS, thermal_voltage
 from .conversions import convert
 from .verify import CrossCheck, crosscheck
-from .chain import Connection, analyse_chain, cascade, connect
+from .chain import analyse_chain, cascade
+from .interconnect import Connection, connect
 from .fet import FetModel, JfetBias, MosfetBias
-from .exceptions import (BiasError, DevModelsError, FileFormatError, InputError,
+from .exceptions import (BiasError, DevModelsError, FileFormatError, InputError, OutputError,
                          SingularParameterError)
 from .indefinite import device_indefinite
 from .models import HybridPi, TModel
@@ -33,6 +34,6 @@ __all__ = [
     "BipolarBias", "HybridPi", "TModel", "Stage", "stage_two_port", "TwoPort", "convert",
     "reconfigure", "config_y", "indefinite_from_y", "device_indefinite", "crosscheck", "CrossCheck",
     "CONFIG_TERMINALS", "KINDS", "BOLTZMANN", "ELEMENTARY_CHARGE", "thermal_voltage",
-    "DevModelsError", "InputError", "BiasError", "SingularParameterError", "FileFormatError",
+    "DevModelsError", "InputError", "BiasError", "SingularParameterError", "FileFormatError", "OutputError",
     "MosfetBias", "JfetBias", "FetModel", "cascade", "connect", "Connection", "analyse_chain",
 ]

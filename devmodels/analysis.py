@@ -317,7 +317,7 @@ def terminate_configs(stage, configs, freq, rs=50.0, rl=1e3, z0=50.0) -> dict[st
     z0n = normalize_z0(z0)
     configs = [check_config(c) for c in configs]
     per_config = getattr(stage.model, "indefinite_for_config", None) is not None
-    stages = {c: Stage(stage.model, c, stage.r_degen, stage.r_feedback) for c in configs}
+    stages = {c: Stage(stage.model, c, stage.rdeg, stage.rfb) for c in configs}
 
     def blocks(start, stop):
         fb = f[start:stop]

@@ -13,6 +13,7 @@ __all__ = [
     "BiasError",
     "SingularParameterError",
     "FileFormatError",
+    "OutputError",
 ]
 
 
@@ -34,3 +35,10 @@ class SingularParameterError(DevModelsError):
 
 class FileFormatError(DevModelsError):
     """An input file (TOML, Touchstone) cannot be read or is malformed."""
+
+
+class OutputError(DevModelsError):
+    """A result cannot be written (a directory, no permission, a full disk, a name too long).
+
+    The message starts with the name of the option or parameter that named the file.
+    """

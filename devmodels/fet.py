@@ -62,7 +62,7 @@ _INF = math.inf
 
 # Bias-file keys of FETs (option names without dashes; 'lambda' is the channel-length modulation).
 register_keys({"id": "A", "vds": "V", "vov": "V", "kn": "A/V2", "lambda": "1/V", "gamma": "V0.5",
-               "vsb": "V", "phi": "V", "cgs": "F", "cgd": "F", "csb": "F", "cdb": "F", "idss": "A",
+               "vsb": "V", "two_phi_f": "V", "cgs": "F", "cgd": "F", "csb": "F", "cdb": "F", "idss": "A",
                "vp": "V", "rg": "Ohm"})
 
 
@@ -115,7 +115,7 @@ class MosfetBias:
         Body-effect coefficient in V^0.5 (``None``: no body effect).
     vsb : float
         Source-body voltage magnitude in V (>= 0, reverse bias).
-    phi : float
+    two_phi_f : float
         Surface potential 2 phi_F in V.
     cgs, cgd, csb, cdb : float
         Capacitances in F.
@@ -131,7 +131,7 @@ class MosfetBias:
     lambda_: float | None = None
     gamma: float | None = None
     vsb: float = 0.0
-    phi: float = DEFAULT_SURFACE_POTENTIAL
+    two_phi_f: float = DEFAULT_SURFACE_POTENTIAL
     cgs: float = 0.0
     cgd: float = 0.0
     csb: float = 0.0
@@ -160,7 +160,7 @@ class MosfetBias:
         if vsb < 0:
             raise BiasError(f"vsb: expected a source-body voltage >= 0 V (body reverse biased), got {vsb:g}")
         object.__setattr__(self, "vsb", vsb)
-        object.__setattr__(self, "phi", _num("phi", self.phi, "V", positive=True))
+        object.__setattr__(self, "two_phi_f", _num("two_phi_f", self.two_phi_f, "V", positive=True))
 
 
 @dataclass(frozen=True, slots=True)
@@ -275,7 +275,7 @@ class FetModel:
         ro = _INF if bias.lambda_ is None else 1.0 / (bias.lambda_ * bias.id)
         if isinstance(bias, MosfetBias):
             gm = 2 * bias.id / bias.vov
-            gmb = 0.0 if bias.gamma is None else bias.gamma * gm / (2 * math.sqrt(bias.phi + bias.vsb))
+            gmb = 0.0 if bias.gamma is None else bias.gamma * gm / (2 * math.sqrt(bias.two_phi_f + bias.vsb))
         elif isinstance(bias, JfetBias):
             gm = 2.0 / abs(bias.vp) * math.sqrt(bias.id * bias.idss)
             gmb = 0.0
@@ -299,8 +299,8 @@ class FetModel:
         """gm ro (``math.inf`` without ro)."""
         return self.gm * self.ro
 
-    def indefinite_for_config(self, freq, config: str, *, r_degen: float = 0.0,
-                              r_feedback: float | None = None) -> np.ndarray:
+    def indefinite_for_config(self, freq, config: str, *, rdeg: float = 0.0,
+                              rfb: float | None = None) -> np.ndarray:
         """Indefinite admittance matrix (F, 3, 3), node order (g, d, s), in S.
 
         The body is tied to the common terminal of ``config`` (AC ground), so the result
@@ -313,13 +313,13 @@ class FetModel:
             Frequencies in Hz, shape (F,).
         config : {'cs', 'cg', 'cd'}
             Configuration.
-        r_degen : float
+        rdeg : float
             External source resistance in ohm (in series with the source terminal).
-        r_feedback : float or None
+        rfb : float or None
             External drain-gate resistance in ohm (``None``: none).
         """
         check_device_config(self, config)
-        return device_indefinite(self, freq, r_degen=r_degen, r_feedback=r_feedback, config=config)
+        return device_indefinite(self, freq, rdeg=rdeg, rfb=rfb, config=config)
 
     def series_resistances(self) -> tuple[float, float, float]:
         """Gate, drain and source series resistances in ohm (for :func:`device_indefinite`)."""

@@ -109,8 +109,8 @@ def check_freq(freq) -> np.ndarray:
     return f
 
 
-def device_indefinite(model: Stampable, freq, *, r_degen: float = 0.0,
-                      r_feedback: float | None = None, config: str | None = None) -> np.ndarray:
+def device_indefinite(model: Stampable, freq, *, rdeg: float = 0.0,
+                      rfb: float | None = None, config: str | None = None) -> np.ndarray:
     """Indefinite admittance matrix of a device and its external elements.
 
     Parameters
@@ -119,10 +119,10 @@ def device_indefinite(model: Stampable, freq, *, r_degen: float = 0.0,
         The small-signal model.
     freq : array_like
         Frequencies in Hz, shape (F,).
-    r_degen : float
+    rdeg : float
         External emitter (source) degeneration resistance in ohm, in series with the
         emitter terminal; 0 for none.
-    r_feedback : float or None
+    rfb : float or None
         External collector-base (drain-gate) feedback resistance in ohm; ``None`` for none.
     config : str, optional
         Configuration; needed by models with a fourth terminal tied to the common one
@@ -135,10 +135,10 @@ def device_indefinite(model: Stampable, freq, *, r_degen: float = 0.0,
         Node order (b, c, e); admittances in S.
     """
     f = check_freq(freq)
-    if r_degen < 0 or not math.isfinite(r_degen):
-        raise InputError(f"r_degen: expected a resistance >= 0 ohm, got {r_degen:g}")
-    if r_feedback is not None and (r_feedback <= 0 or not math.isfinite(r_feedback)):
-        raise InputError(f"r_feedback: expected a positive resistance in ohm, got {r_feedback:g}")
+    if rdeg < 0 or not math.isfinite(rdeg):
+        raise InputError(f"rdeg: expected a resistance >= 0 ohm, got {rdeg:g}")
+    if rfb is not None and (rfb <= 0 or not math.isfinite(rfb)):
+        raise InputError(f"rfb: expected a positive resistance in ohm, got {rfb:g}")
     extra = ()
     if hasattr(model, "series_resistances"):  # a four-terminal model: body to the common terminal
         from .configs import CONFIG_TERMINALS
@@ -149,17 +149,17 @@ def device_indefinite(model: Stampable, freq, *, r_degen: float = 0.0,
     out = np.empty((f.size, 3, 3), dtype=complex)
     for start in range(0, f.size, FREQ_BLOCK):
         omega = 2 * math.pi * f[start:start + FREQ_BLOCK]
-        out[start:start + omega.size] = assemble_block(model, omega, omega.size, r_degen=r_degen,
-                                                       r_feedback=r_feedback, body=extra)
+        out[start:start + omega.size] = assemble_block(model, omega, omega.size, rdeg=rdeg,
+                                                       rfb=rfb, body=extra)
     return out
 
 
-def assemble_block(model: Stampable, omega, n: int, *, r_degen=0.0, r_feedback=None,
+def assemble_block(model: Stampable, omega, n: int, *, rdeg=0.0, rfb=None,
                    body: tuple[int, ...] = ()) -> np.ndarray:
     """Indefinite matrix (n, 3, 3) of one block of points: stamping, then Kron reduction.
 
     The points are frequencies (``omega`` of shape (n,)) or samples of a spread (``omega`` a
-    scalar and the model's element values, ``r_degen`` and ``r_feedback`` arrays of shape
+    scalar and the model's element values, ``rdeg`` and ``rfb`` arrays of shape
     (n,)); no check of the values is done here.
 
     Parameters
@@ -170,7 +170,7 @@ def assemble_block(model: Stampable, omega, n: int, *, r_degen=0.0, r_feedback=N
         Angular frequency in rad/s.
     n : int
         Number of points.
-    r_degen, r_feedback : float, ndarray or None
+    rdeg, rfb : float, ndarray or None
         External emitter (source) and collector-base (drain-gate) resistances in ohm.
     body : tuple of int
         The node a four-terminal model ties its body to (empty for a bipolar model).
@@ -182,7 +182,7 @@ def assemble_block(model: Stampable, omega, n: int, *, r_degen=0.0, r_feedback=N
     """
     own = model.series_resistances() if hasattr(model, "series_resistances") else (
         model.rb, model.rcx, model.rex)
-    series = (own[0], own[1], own[2] + r_degen)
+    series = (own[0], own[1], own[2] + rdeg)
     present = []
     for name, r in zip(("base/gate", "collector/drain", "emitter/source"), series):
         positive = np.asarray(r) > 0
@@ -202,8 +202,8 @@ def assemble_block(model: Stampable, omega, n: int, *, r_degen=0.0, r_feedback=N
         else:
             inner.append(ext)
     model.intrinsic_stamp(omega, Y, *inner, *body)
-    if r_feedback is not None:
-        stamp_admittance(Y, 0, 1, 1.0 / np.asarray(r_feedback))
+    if rfb is not None:
+        stamp_admittance(Y, 0, 1, 1.0 / np.asarray(rfb))
     for k in range(size - 1, 2, -1):
         Y = kron_eliminate(Y, k)
     return Y

@@ -1,7 +1,7 @@
 """Plots of terminated-analysis results (matplotlib, Agg backend, imported only when called).
 
 The functions take result objects (:class:`~devmodels.analysis.Terminated`,
-:class:`~devmodels.twoport.TwoPort`, :class:`~devmodels.figures.FrequencyFigures`) and only
+:class:`~devmodels.twoport.TwoPort`, :class:`~devmodels.merit.FrequencyFigures`) and only
 draw them; nothing here computes a physical quantity.
 """
 

@@ -11,7 +11,7 @@ Each sample draws
   assumption about how a batch of parts is sorted.
 
 and then recomputes, for all samples at once: beta and VBE(on) at the temperature
-(:mod:`devmodels.temperature`), the operating point (:func:`devmodels.network.solve_arrays`,
+(:mod:`devmodels.temperature`), the operating point (:func:`devmodels.dcbias.solve_arrays`,
 when a network is given; otherwise IC and VCE are fixed), the hybrid-pi model (relations of
 :mod:`devmodels.models`), the stage's Y parameters at one frequency, and the terminated
 analysis (:func:`devmodels.analysis.terminate_arrays` and ``stability_arrays``).
@@ -42,7 +42,7 @@ import numpy as np
 from .bias import DEFAULT_VCE_SAT
 from .constants import BJT_CONFIGS, thermal_voltage
 from .exceptions import InputError
-from .network import REGIONS, BiasNetwork, rating_warnings, solve_arrays
+from .dcbias import REGIONS, BiasNetwork, rating_warnings, solve_arrays
 from .temperature import BETA_TC_DEFAULT, T_REF, VBE_DEFAULT, VBE_TC_DEFAULT, beta_at, vbe_at
 
 __all__ = ["CHUNK", "RESULTS", "QUANTILES", "SpreadSetup", "SpreadRanges", "SpreadResult", "evaluate",
@@ -285,7 +285,7 @@ def stage_y_arrays(config: str, freq: float, *, gm, r_pi, go=0.0, c_pi=0.0, c_mu
                      r_mu=resistance(g_mu), rcx=rcx, rex=rex)
     r_fb = None if not np.any(np.asarray(g_fb) != 0) else resistance(g_fb)
     # the same stamping and Kron reduction as a frequency sweep, with samples as the points
-    Y3 = assemble_block(model, 2 * math.pi * freq, n, r_feedback=r_fb)
+    Y3 = assemble_block(model, 2 * math.pi * freq, n, rfb=r_fb)
     return config_y(Y3, config)
 
 
@@ -307,7 +307,7 @@ def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] 
     -------
     dict of ndarray (N,)
         :data:`RESULTS` (magnitudes, NaN where they do not exist), ``region`` (int8 codes into
-        :data:`devmodels.network.REGIONS`; code 3 for a negative C_pi) and ``beta`` used.
+        :data:`devmodels.dcbias.REGIONS`; code 3 for a negative C_pi) and ``beta`` used.
     """
     from .analysis import stability_arrays, terminate_arrays
     from .conversions import convert

@@ -23,16 +23,16 @@ class Stage:
         The small-signal device model.
     config : str
         ``ce``, ``cb``, ``cc`` (or ``cs``, ``cg``, ``cd`` for FETs).
-    r_degen : float
+    rdeg : float
         External emitter/source degeneration resistance in ohm (0: none).
-    r_feedback : float or None
+    rfb : float or None
         External collector-base/drain-gate feedback resistance in ohm (None: none).
     """
 
     model: object
     config: str = "ce"
-    r_degen: float = 0.0
-    r_feedback: float | None = None
+    rdeg: float = 0.0
+    rfb: float | None = None
 
     def __post_init__(self) -> None:
         check_config(self.config)
@@ -41,8 +41,8 @@ class Stage:
         """Indefinite admittance matrix (F, 3, 3) in S."""
         stamp = getattr(self.model, "indefinite_for_config", None)
         if stamp is not None:  # models whose terminal matrix depends on the configuration
-            return stamp(freq, self.config, r_degen=self.r_degen, r_feedback=self.r_feedback)
-        return device_indefinite(self.model, freq, r_degen=self.r_degen, r_feedback=self.r_feedback)
+            return stamp(freq, self.config, rdeg=self.rdeg, rfb=self.rfb)
+        return device_indefinite(self.model, freq, rdeg=self.rdeg, rfb=self.rfb)
 
     def two_port(self, freq, kind: str = "y", z0=50.0) -> TwoPort:
         """Parameters of ``kind`` at frequencies ``freq`` (Hz)."""
@@ -51,7 +51,7 @@ class Stage:
         return TwoPort(f, y, "y", z0, self.config).to(kind)
 
 
-def stage_two_port(model, config: str, freq, kind: str = "y", z0=50.0, *, r_degen: float = 0.0,
-                   r_feedback: float | None = None) -> TwoPort:
-    """Shorthand for ``Stage(model, config, r_degen, r_feedback).two_port(freq, kind, z0)``."""
-    return Stage(model, config, r_degen, r_feedback).two_port(freq, kind, z0)
+def stage_two_port(model, config: str, freq, kind: str = "y", z0=50.0, *, rdeg: float = 0.0,
+                   rfb: float | None = None) -> TwoPort:
+    """Shorthand for ``Stage(model, config, rdeg, rfb).two_port(freq, kind, z0)``."""
+    return Stage(model, config, rdeg, rfb).two_port(freq, kind, z0)

@@ -364,16 +364,16 @@ def _derive(config: str, result: str, present: frozenset, rs: bool, rl: bool):
     return _simplify(expr)
 
 
-def element_values(model, *, r_degen: float = 0.0, r_feedback: float | None = None) -> dict[str, float]:
+def element_values(model, *, rdeg: float = 0.0, rfb: float | None = None) -> dict[str, float]:
     """Symbol values (SI units) of a model's elements that are present (see the module docstring).
 
     Parameters
     ----------
     model : HybridPi or FetModel
         The device model.
-    r_degen : float
+    rdeg : float
         External emitter/source resistance in ohm (0: none).
-    r_feedback : float or None
+    rfb : float or None
         External collector-base/drain-gate resistance in ohm (None: none).
     """
     from .fet import FetModel
@@ -386,6 +386,6 @@ def element_values(model, *, r_degen: float = 0.0, r_feedback: float | None = No
                  "C_mu": model.c_mu, "r_mu": model.r_mu, "r_cx": model.rcx, "r_ex": model.rex}
     else:
         raise InputError(f"model: expected a HybridPi or a FetModel, got {type(model).__name__}")
-    pairs["R_deg"] = r_degen
-    pairs["R_fb"] = math.inf if r_feedback is None else r_feedback
+    pairs["R_deg"] = rdeg
+    pairs["R_fb"] = math.inf if rfb is None else rfb
     return {k: float(v) for k, v in pairs.items() if v != 0 and math.isfinite(v)}

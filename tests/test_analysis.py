@@ -258,7 +258,7 @@ def test_random_passive_and_active_networks_against_y_form():
     np.testing.assert_allclose(terminate(tp, zs, zl).avs, avs, rtol=1e-8)
 
 
-@pytest.mark.parametrize("extras", [dict(), dict(r_degen=22.0, r_feedback=47e3)])
+@pytest.mark.parametrize("extras", [dict(), dict(rdeg=22.0, rfb=47e3)])
 def test_terminate_configs_equals_one_stage_at_a_time(extras):
     # The fused block-by-block pipeline must give exactly what the step-by-step one gives
     # (same engine, so equality to rounding), over more points than one block and with an

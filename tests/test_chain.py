@@ -6,7 +6,8 @@ import numpy as np
 import pytest
 
 import devmodels as dm
-from devmodels.chain import analyse_chain, cascade, connect, series_element, shunt_element
+from devmodels.chain import analyse_chain, cascade
+from devmodels.interconnect import connect, series_element, shunt_element
 from devmodels.fet import FetModel, MosfetBias
 
 skrf = pytest.importorskip("skrf")
@@ -65,13 +66,13 @@ def test_emitter_resistor_series_series_against_scikit_rf_circuit_and_stamp(bjt)
     res = connect(dm.Stage(bjt, "ce").two_port(F), shunt_element(R, F), "series-series")
     assert res.port_condition is True
     np.testing.assert_allclose(res.two_port.to("s").data, ref.s, rtol=1e-8, atol=1e-11)
-    stamped = dm.Stage(bjt, "ce", r_degen=R).two_port(F, "z").data
+    stamped = dm.Stage(bjt, "ce", rdeg=R).two_port(F, "z").data
     np.testing.assert_allclose(res.two_port.data, stamped, rtol=1e-10)
 
 
 def test_feedback_resistor_shunt_shunt_against_scikit_rf_circuit_and_stamp(bjt):
     # A collector-base resistor as a shunt-shunt connection (Y add) equals scikit-rf's Circuit
-    # with R between base and collector, and the stamped stage with r_feedback.
+    # with R between base and collector, and the stamped stage with rfb.
     R = 12e3
     dev = _device_3port(bjt, F)
     # each connection list is one node: base with port 1 and R, collector with port 2 and R
@@ -84,7 +85,7 @@ def test_feedback_resistor_shunt_shunt_against_scikit_rf_circuit_and_stamp(bjt):
     res = connect(dm.Stage(bjt, "ce").two_port(F), series_element(R, F), "shunt-shunt")
     assert res.port_condition is True
     np.testing.assert_allclose(res.two_port.to("s").data, ref.s, rtol=1e-8, atol=1e-11)
-    stamped = dm.Stage(bjt, "ce", r_feedback=R).two_port(F).data
+    stamped = dm.Stage(bjt, "ce", rfb=R).two_port(F).data
     np.testing.assert_allclose(res.two_port.data, stamped, rtol=1e-10)
 
 
@@ -96,10 +97,10 @@ def test_source_resistor_series_series_equals_stamped_fet(mos):
     R = 68.0
     plain = FetModel(gm=mos.gm, ro=mos.ro, cgs=mos.cgs, cgd=mos.cgd)
     res = connect(dm.Stage(plain, "cs").two_port(F), shunt_element(R, F), "series-series")
-    stamped = dm.Stage(plain, "cs", r_degen=R).two_port(F, "z").data
+    stamped = dm.Stage(plain, "cs", rdeg=R).two_port(F, "z").data
     np.testing.assert_allclose(res.two_port.data, stamped, rtol=1e-10)
     body = connect(dm.Stage(mos, "cs").two_port(F), shunt_element(R, F), "series-series")
-    assert not np.allclose(body.two_port.data, dm.Stage(mos, "cs", r_degen=R).two_port(F, "z").data,
+    assert not np.allclose(body.two_port.data, dm.Stage(mos, "cs", rdeg=R).two_port(F, "z").data,
                            rtol=1e-6)
 
 
@@ -119,7 +120,7 @@ def test_series_series_flags_a_violated_port_condition(bjt):
     # A network in the common leg whose upper terminals are not one node (here the CE device
     # itself, z11 != z21) violates Brune's condition; the result says so.
     a = dm.Stage(bjt, "ce").two_port(F)
-    b = dm.Stage(bjt, "ce", r_degen=100.0).two_port(F)
+    b = dm.Stage(bjt, "ce", rdeg=100.0).two_port(F)
     res = connect(a, b, "series-series")
     assert res.port_condition is False and "violated" in res.note
 

@@ -9,7 +9,7 @@ import pytest
 
 import devmodels as dm
 from conftest import assert_one_line_error
-from devmodels.network import BiasNetwork, operating_point
+from devmodels.dcbias import BiasNetwork, operating_point
 
 EXAMPLE = str(Path(__file__).resolve().parents[1] / "bias_examples" / "sensor_preamp_divider.toml")
 DIVIDER = ["--network", "divider", "--vcc", "12V", "--r1", "47k", "--r2", "10k", "--rc", "2.2k", "--re", "1k",

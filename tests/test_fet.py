@@ -22,7 +22,7 @@ def test_mosfet_square_law_relations():
     # ID = (kn/2) Vov^2, gm = 2 ID/Vov = sqrt(2 kn ID) = kn Vov, ro = 1/(lambda ID),
     # gmb = gamma gm / (2 sqrt(2phiF + VSB))
     # (Sedra and Smith, Microelectronic Circuits, MOSFET small-signal model; from memory).
-    b = _mos(gamma=0.5, vsb=1.2, phi=0.7)
+    b = _mos(gamma=0.5, vsb=1.2, two_phi_f=0.7)
     m = FetModel.from_bias(b)
     kn = 2 * 2e-3 / 0.25 ** 2
     assert m.gm == pytest.approx(2 * 2e-3 / 0.25)
@@ -94,7 +94,7 @@ def test_refusals(make, match):
 def test_indefinite_rows_and_columns_sum_to_zero(config):
     # Definition of the indefinite admittance matrix (Shekel 1954; any text on it).
     m = FetModel.from_bias(_mos(gamma=0.4, vsb=0.5, csb=0.1e-12, cdb=0.15e-12, rg=20.0))
-    Y = dm.Stage(m, config, r_degen=33.0, r_feedback=20e3).indefinite(np.logspace(3, 10, 30))
+    Y = dm.Stage(m, config, rdeg=33.0, rfb=20e3).indefinite(np.logspace(3, 10, 30))
     scale = np.abs(Y).max()
     assert np.abs(Y.sum(axis=1)).max() < 1e-12 * scale
     assert np.abs(Y.sum(axis=2)).max() < 1e-12 * scale
@@ -164,7 +164,7 @@ def test_jfet_cs_gain():
 def test_source_degeneration_closed_form():
     # CS with source resistor RS and no ro/gmb: av = -gm RL / (1 + gm RS) (Sedra and Smith; from memory).
     m = FetModel.from_bias(_mos(lambda_=None))
-    t = terminate(dm.Stage(m, "cs", r_degen=100.0).two_port([0.0]), 0.0, RL)
+    t = terminate(dm.Stage(m, "cs", rdeg=100.0).two_port([0.0]), 0.0, RL)
     assert t.av[0] == pytest.approx(-m.gm * RL / (1 + m.gm * 100.0), rel=1e-12)
 
 

@@ -20,7 +20,7 @@ def _bias(**kw):
 def test_rows_and_columns_sum_to_zero():
     # Definition of the indefinite admittance matrix (Shekel 1954; any text on it).
     m = dm.HybridPi.from_bias(_bias(rb=50.0, rcx=10.0, rex=1.0))
-    Y = device_indefinite(m, np.logspace(2, 9, 50), r_degen=47.0, r_feedback=10e3)
+    Y = device_indefinite(m, np.logspace(2, 9, 50), rdeg=47.0, rfb=10e3)
     scale = np.abs(Y).max()
     assert np.abs(Y.sum(axis=1)).max() < 1e-12 * scale
     assert np.abs(Y.sum(axis=2)).max() < 1e-12 * scale
@@ -71,7 +71,7 @@ def test_emitter_degeneration_low_frequency_transconductance():
     # emitter-degenerated CE stage; from memory).
     m = dm.HybridPi.from_bias(dm.BipolarBias(ic=1e-3, vce=5.0, beta=100))
     re_ = 100.0
-    y = dm.Stage(m, "ce", r_degen=re_).two_port([10.0]).data[0]
+    y = dm.Stage(m, "ce", rdeg=re_).two_port([10.0]).data[0]
     assert y[1, 0].real == pytest.approx(m.gm / (1 + m.gm * re_ * (1 + 1 / m.beta)), rel=1e-12)
     # input resistance r_pi + (beta + 1) RE (the reflection rule)
     assert 1 / (y[0, 0].real) == pytest.approx(m.r_pi + (m.beta + 1) * re_, rel=1e-12)
@@ -83,7 +83,7 @@ def test_feedback_resistor_adds_to_y_matrix():
     m = dm.HybridPi.from_bias(_bias())
     f = [1e3, 1e7]
     a = dm.Stage(m, "ce").two_port(f).data
-    b = dm.Stage(m, "ce", r_feedback=10e3).two_port(f).data
+    b = dm.Stage(m, "ce", rfb=10e3).two_port(f).data
     g = 1 / 10e3
     np.testing.assert_allclose(b - a, np.broadcast_to([[g, -g], [-g, g]], a.shape), atol=1e-15)
 

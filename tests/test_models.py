@@ -90,7 +90,7 @@ def test_hybrid_pi_and_t_model_terminal_admittances_agree(extras):
     t = dm.TModel.from_bias(b)
     f = np.logspace(0, 10.5, 200)
     for rdeg, rfb in ((0.0, None), (33.0, 22e3)):
-        a = device_indefinite(hp, f, r_degen=rdeg, r_feedback=rfb)
-        c = device_indefinite(t, f, r_degen=rdeg, r_feedback=rfb)
+        a = device_indefinite(hp, f, rdeg=rdeg, rfb=rfb)
+        c = device_indefinite(t, f, rdeg=rdeg, rfb=rfb)
         scale = np.abs(a).max(axis=(1, 2))[:, None, None]
         assert np.max(np.abs(a - c) / scale) < 1e-12

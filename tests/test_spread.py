@@ -10,7 +10,7 @@ import pytest
 import devmodels as dm
 from devmodels.analysis import terminate
 from devmodels.exceptions import InputError
-from devmodels.network import BiasNetwork, operating_point
+from devmodels.dcbias import BiasNetwork, operating_point
 from devmodels.spread import SpreadRanges, SpreadSetup, evaluate, run_spread, stage_y_arrays
 
 NET = BiasNetwork("divider", 12.0, rc=2.2e3, re=1e3, r1=47e3, r2=10e3)

@@ -58,8 +58,8 @@ def test_formulas_equal_the_numeric_engine_at_random_values(config):
         else:
             model = dm.HybridPi(gm=full.gm, r_pi=full.r_pi, ro=full.ro, c_pi=full.c_pi, c_mu=full.c_mu,
                                 rb=full.rb)
-        _check(config, model, RESULTS, rng, r_degen=float(rng.uniform(1, 200)),
-               r_feedback=float(rng.uniform(5e3, 1e5)))
+        _check(config, model, RESULTS, rng, rdeg=float(rng.uniform(1, 200)),
+               rfb=float(rng.uniform(5e3, 1e5)))
 
 
 @pytest.mark.parametrize("config", CONFIGS)
@@ -68,7 +68,7 @@ def test_formulas_with_every_element(config):
     # one result per configuration, since each derivation takes about a second.
     rng = np.random.default_rng(7 + sum(map(ord, config)))
     model = _random_fet(rng) if config in ("cs", "cg", "cd") else _random_bjt(rng)
-    _check(config, model, ("av",), rng, r_degen=float(rng.uniform(1, 200)), r_feedback=float(rng.uniform(5e3, 1e5)))
+    _check(config, model, ("av",), rng, rdeg=float(rng.uniform(1, 200)), rfb=float(rng.uniform(5e3, 1e5)))
 
 
 @pytest.mark.parametrize("config", ["ce", "cs", "cd"])

@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from devmodels.exceptions import InputError
-from devmodels.network import BiasNetwork, operating_point
+from devmodels.dcbias import BiasNetwork, operating_point
 from devmodels.temperature import beta_at, thermal_voltage, vbe_at
 
 

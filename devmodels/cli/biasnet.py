@@ -76,13 +76,13 @@ def _network_table(tables: dict, where: str) -> dict:
 
 
 def solve_inputs(net_sources: list[dict], dev_sources: list[dict]):
-    """The :class:`~devmodels.network.OperatingPoint` these raw values describe.
+    """The :class:`~devmodels.dcbias.OperatingPoint` these raw values describe.
 
     ``net_sources`` are searched in order for the network's own values (type, vcc, resistors,
     tol), ``dev_sources`` for the transistor's (beta, vbe, temp, ratings, ...).
     """
     from ..bias import DEFAULT_TEMP, DEFAULT_VCE_SAT
-    from ..network import BiasNetwork, operating_point
+    from ..dcbias import BiasNetwork, operating_point
     from ..temperature import BETA_TC_DEFAULT, VBE_DEFAULT, VBE_TC_DEFAULT
 
     kind = _pick("type", "str", net_sources)
@@ -318,7 +318,7 @@ def spread_cmd(
             if bias_in.raw(name) is not None:
                 raise InputError(f"{name}: the bias file describes a bias network, which sets IC and VCE; "
                                  f"remove '{name}' (or the [network] table)")
-        from ..network import BiasNetwork
+        from ..dcbias import BiasNetwork
 
         net = dict(table)
         kind = _pick("type", "str", [net])

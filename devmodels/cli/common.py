@@ -56,7 +56,7 @@ BIAS_OPTIONS: list[tuple[str, str, str]] = [
     ("lambda_", "", "FET channel-length modulation, 1/V (default: none, ro infinite)."),
     ("gamma", "", "MOSFET body-effect coefficient, V^0.5 (default: none, no body effect)."),
     ("vsb", "V", "MOSFET source-body voltage, V (default 0)."),
-    ("phi", "V", "MOSFET surface potential 2 phi_F, V (default 0.7 V)."),
+    ("two_phi_f", "V", "MOSFET surface potential 2 phi_F (twice the Fermi potential), V (default 0.7 V)."),
     ("cgs", "F", "FET gate-source capacitance, F (default 0)."),
     ("cgd", "F", "FET gate-drain capacitance, F (default 0)."),
     ("csb", "F", "MOSFET source-body capacitance, F (default 0)."),
@@ -130,7 +130,7 @@ class BiasInputs:
         for name, v, unit in (("pmax", pmax, "W"), ("vceo", vceo, "V")):
             if v is not None and v <= 0:
                 raise InputError(f"{name}: expected a positive rating in {unit}, got {v:g}")
-        from ..network import rating_warnings
+        from ..dcbias import rating_warnings
 
         for w in rating_warnings(power, 0.0 if vce is None else vce, 0.0, pmax=pmax,
                                  vceo=None if vce is None else vceo):

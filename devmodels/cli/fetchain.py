@@ -19,9 +19,9 @@ from .common import (FreqOpt, JsonOpt, Z0Opt, BiasInputs, bias_options, emit_jso
                      parse_z0, points_json, print_table, print_twoport, warn)
 
 #: Bias options that only a FET uses (internal names; ``lambda_`` is ``--lambda`` / ``lambda``).
-FET_ONLY = ("id", "vds", "vov", "kn", "lambda_", "gamma", "vsb", "phi", "cgs", "cgd", "csb", "cdb",
+FET_ONLY = ("id", "vds", "vov", "kn", "lambda_", "gamma", "vsb", "two_phi_f", "cgs", "cgd", "csb", "cdb",
             "idss", "vp", "rg")
-MOS_ONLY = ("vov", "kn", "gamma", "vsb", "phi")
+MOS_ONLY = ("vov", "kn", "gamma", "vsb", "two_phi_f")
 JFET_ONLY = ("idss", "vp")
 #: Bias options that only a bipolar device uses.
 BJT_ONLY = ("ic", "vce", "beta", "va", "ft", "cmu", "rb", "rmu", "rcx", "rex", "vce_sat")
@@ -85,7 +85,7 @@ def fet_bias_or_none(bias_in: BiasInputs):
     if device.endswith("mos"):
         bias = MosfetBias(vov=_val(bias_in, "vov", "V"), kn=_val(bias_in, "kn", ""),
                           gamma=_val(bias_in, "gamma", ""), vsb=_val(bias_in, "vsb", "V", 0.0),
-                          phi=_val(bias_in, "phi", "V", DEFAULT_SURFACE_POTENTIAL), **common)
+                          two_phi_f=_val(bias_in, "two_phi_f", "V", DEFAULT_SURFACE_POTENTIAL), **common)
     else:
         bias = JfetBias(idss=_need(bias_in, "idss", "A", "drain current at VGS = 0 in A, e.g. 8mA"),
                         vp=_need(bias_in, "vp", "V", "pinch-off voltage in V, e.g. -2V"), **common)
@@ -119,7 +119,7 @@ def print_fet_model(bias, as_json: bool) -> None:
     if jfet:
         out.update(idss=bias.idss, vp=bias.vp, vgs=bias.vgs, gm0=2 * bias.idss / abs(bias.vp))
     else:
-        out.update(kn=2 * bias.id / bias.vov ** 2, vsb=bias.vsb, phi=bias.phi, gamma=bias.gamma)
+        out.update(kn=2 * bias.id / bias.vov ** 2, vsb=bias.vsb, two_phi_f=bias.two_phi_f, gamma=bias.gamma)
     if as_json:
         emit_json(out)
         return
@@ -286,7 +286,7 @@ def cascade_cmd(
 # --- connect ---------------------------------------------------------------------------------
 
 def _net(spec: str, f, z0v, n: int):
-    from ..chain import series_element, shunt_element
+    from ..interconnect import series_element, shunt_element
     from ..units import parse_complex
 
     text = spec.strip()
@@ -327,7 +327,7 @@ def connect_cmd(
     as_json: JsonOpt = False,
 ) -> None:
     """Two networks in a feedback connection; states whether the port condition holds."""
-    from ..chain import connect
+    from ..interconnect import connect
     from ..constants import KINDS
 
     if len(net) != 2:
@@ -398,7 +398,7 @@ def formula_cmd(
     values = None
     if bias_in.given():
         st = bias_in.stage(config)
-        values = element_values(st.model, r_degen=st.r_degen, r_feedback=st.r_feedback)
+        values = element_values(st.model, rdeg=st.rdeg, rfb=st.rfb)
         elements = set(values)
     else:
         from ..configs import check_config

@@ -234,7 +234,7 @@ def compare_cmd(bias_in: BiasInputs, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT
                 as_json: JsonOpt = False) -> None:
     """CE, CB and CC (CS, CG and CD for a FET) side by side for the same device, bias and terminations."""
     from ..analysis import terminate
-    from ..figures import bandwidth
+    from ..merit import bandwidth
 
     zs, zl = _terminations(rs, rl)
     z0v = parse_z0(z0)
@@ -281,7 +281,7 @@ def compare_cmd(bias_in: BiasInputs, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT
 
 def _compare_plot(path: Path, stages: dict, zs, zl, z0v) -> None:
     from ..analysis import terminate
-    from ..figures import frequency_figures
+    from ..merit import frequency_figures
     from ..plotting import plot_report
 
     grid = np.geomspace(*COMPARE_PLOT_RANGE, 200)
@@ -346,7 +346,7 @@ def sweep_cmd(bias_in: BiasInputs, config: ConfigOpt = "ce",
     """Two-port parameters over a log-spaced sweep, with fT, f_beta, fmax and the bandwidth."""
     from ..analysis import terminate
     from ..constants import KINDS
-    from ..figures import frequency_figures
+    from ..merit import frequency_figures
 
     config = config.lower()
     kind = kind.lower()

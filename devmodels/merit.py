@@ -236,7 +236,7 @@ def frequency_figures(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1
     fmax = crossing(u_db, 0.0, f_start, f_stop, points)
     bw, avs0 = bandwidth(stage, f_start, f_stop, zs, zl, points)
     miller = None
-    if stage.config == "ce" and not stage.r_degen and stage.r_feedback is None:
+    if stage.config == "ce" and not stage.rdeg and stage.rfb is None:
         zl_c = complex(zl)
         miller = miller_bandwidth(stage.model, complex(zs).real,
                                   math.inf if math.isinf(zl_c.real) else zl_c.real)

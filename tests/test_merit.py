@@ -1,4 +1,4 @@
-"""Frequency figures (devmodels.figures) against handbook relations of the hybrid-pi model."""
+"""Frequency figures (devmodels.merit) against handbook relations of the hybrid-pi model."""
 
 from __future__ import annotations
 
@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 import devmodels as dm
-from devmodels.figures import bandwidth, crossing, frequency_figures, miller_bandwidth
+from devmodels.merit import bandwidth, crossing, frequency_figures, miller_bandwidth
 
 
 def model(**kw):

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from devmodels.exceptions import BiasError, InputError
-from devmodels.network import BiasNetwork, operating_point, solve_arrays
+from devmodels.dcbias import BiasNetwork, operating_point, solve_arrays
 
 DIVIDER = BiasNetwork("divider", 12.0, rc=2.2e3, re=1e3, r1=47e3, r2=10e3)
 
@@ -104,7 +104,7 @@ def test_collector_feedback_does_not_saturate():
 
 
 def test_pnp_is_the_mirror_image():
-    # Convention of this project (documented in devmodels.network): every voltage and current negated.
+    # Convention of this project (documented in devmodels.dcbias): every voltage and current negated.
     n = operating_point(DIVIDER, 100.0)
     p = operating_point(BiasNetwork("divider", -12.0, rc=2.2e3, re=1e3, r1=47e3, r2=10e3), 100.0, device="pnp")
     for k in ("ic", "ib", "ie", "vb", "ve", "vc", "vce"):
