@@ -20,7 +20,8 @@ from .conversions import convert
 from .verify import CrossCheck, crosscheck
 from .chain import analyse_chain, cascade
 from .interconnect import Connection, connect
-from .fet import FetModel, JfetBias, MosfetBias
+from .fet import FetModel
+from .fetbias import JfetBias, MosfetBias
 from .exceptions import (BiasError, DevModelsError, FileFormatError, InputError, OutputError,
                          SingularParameterError)
 from .indefinite import device_indefinite

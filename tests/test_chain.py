@@ -8,7 +8,8 @@ import pytest
 import devmodels as dm
 from devmodels.chain import analyse_chain, cascade
 from devmodels.interconnect import connect, series_element, shunt_element
-from devmodels.fet import FetModel, MosfetBias
+from devmodels.fet import FetModel
+from devmodels.fetbias import MosfetBias
 
 skrf = pytest.importorskip("skrf")
 

@@ -12,7 +12,8 @@ import pytest
 import devmodels as dm
 from conftest import assert_one_line_error, cx
 from devmodels.analysis import terminate
-from devmodels.fet import FetModel, MosfetBias
+from devmodels.fet import FetModel
+from devmodels.fetbias import MosfetBias
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "bias_examples"
 FET_EXAMPLES = sorted((EXAMPLES / "fet").glob("*.toml"))

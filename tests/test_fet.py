@@ -9,7 +9,8 @@ import pytest
 
 import devmodels as dm
 from devmodels.analysis import terminate
-from devmodels.fet import FetModel, JfetBias, MosfetBias, check_device_config
+from devmodels.fet import FetModel, check_device_config
+from devmodels.fetbias import JfetBias, MosfetBias
 
 
 def _mos(**kw):

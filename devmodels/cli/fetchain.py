@@ -57,7 +57,7 @@ def fet_bias_or_none(bias_in: BiasInputs):
 
     Refuses options of the other family (``--ic`` for a FET, ``--id`` for a bipolar device).
     """
-    from ..fet import DEFAULT_SURFACE_POTENTIAL, FET_DEVICES, JfetBias, MosfetBias
+    from ..fetbias import DEFAULT_SURFACE_POTENTIAL, FET_DEVICES, JfetBias, MosfetBias
 
     device = (bias_in.value("device", "str") or "").lower()
     if device not in FET_DEVICES:
@@ -107,7 +107,8 @@ def _none_if_inf(x):
 
 def print_fet_model(bias, as_json: bool) -> None:
     """The ``model`` command for a FET: JSON keys gm, gmb, ro, cgs, cgd, ft, vov (and more)."""
-    from ..fet import FetModel, JfetBias
+    from ..fet import FetModel
+    from ..fetbias import JfetBias
     from ..units import format_si
 
     m = FetModel.from_bias(bias)
