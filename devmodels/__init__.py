@@ -2,7 +2,7 @@
 
 Data flow (one module per step)::
 
-    bias.BipolarBias -> models.HybridPi / TModel -> indefinite.device_indefinite (F, 3, 3)
+    bias.BipolarBias -> models.HybridPi / TModel -> netlist.reduce_to (F, 3, 3)
         -> configs / stage.Stage (ce, cb, cc; cs, cg, cd with fet.FetModel) -> twoport.TwoPort + conversions.convert
         -> crosscheck (against scikit-rf)
 
@@ -24,7 +24,7 @@ from .fet import FetModel
 from .fetbias import JfetBias, MosfetBias
 from .exceptions import (BiasError, DevModelsError, FileFormatError, InputError, OutputError,
                          SingularParameterError)
-from .indefinite import device_indefinite
+from .netlist import Element, Netlist
 from .models import HybridPi, TModel
 from .stage import Stage, stage_two_port
 from .twoport import TwoPort
@@ -33,7 +33,7 @@ __version__ = "0.1.0"
 
 __all__ = [
     "BipolarBias", "HybridPi", "TModel", "Stage", "stage_two_port", "TwoPort", "convert",
-    "reconfigure", "config_y", "indefinite_from_y", "device_indefinite", "crosscheck", "CrossCheck",
+    "reconfigure", "config_y", "indefinite_from_y", "Netlist", "Element", "crosscheck", "CrossCheck",
     "CONFIG_TERMINALS", "KINDS", "BOLTZMANN", "ELEMENTARY_CHARGE", "thermal_voltage",
     "DevModelsError", "InputError", "BiasError", "SingularParameterError", "FileFormatError", "OutputError",
     "MosfetBias", "JfetBias", "FetModel", "cascade", "connect", "Connection", "analyse_chain",

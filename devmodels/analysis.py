@@ -310,7 +310,7 @@ def terminate_configs(stage, configs, freq, rs=50.0, rl=1e3, z0=50.0) -> dict[st
     rs, rl, z0 : as in :func:`terminate`.
     """
     from .configs import check_config, config_y
-    from .indefinite import check_freq
+    from .netlist import check_freq
     from .stage import Stage
 
     f = check_freq(freq)

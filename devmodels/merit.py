@@ -19,7 +19,7 @@ one call, the first grid interval where it falls through the level is taken, and
 interval is refined a few times on small logarithmic grids (a short loop over refinements,
 not over frequencies).  A figure that is not reached inside the range is ``None``.
 
-Beside the bandwidth, the Miller estimate of a common-emitter stage (Sedra and Smith,
+Beside the bandwidth, the Miller estimate of a common-emitter (common-source) stage (Sedra and Smith,
 *Microelectronic Circuits*, ch. on frequency response; Gray and Meyer, ch. 7, from memory):
 
 .. math::
@@ -154,12 +154,14 @@ def crossing(fn: Callable[[np.ndarray], np.ndarray], level: float, f_lo: float, 
 
 
 def miller_bandwidth(model, rs: float, rl: float) -> float | None:
-    """Miller estimate of the CE -3 dB frequency in Hz (module docstring).
+    """Miller estimate of the CE (CS) -3 dB frequency in Hz (module docstring).
 
     Parameters
     ----------
-    model : HybridPi
-        Device model (needs ``gm``, ``r_pi``, ``ro``, ``c_pi``, ``c_mu``, ``rb``).
+    model : device model
+        Its :meth:`miller_parts` give gm, the input shunt resistance (r_pi; infinite for a
+        FET), the series input resistance (rb; rg), the input and feedback capacitances
+        (C_pi, C_mu; Cgs, Cgd) and ro.
     rs : float
         Source resistance in ohm (the real part of a complex source impedance).
     rl : float
@@ -168,14 +170,12 @@ def miller_bandwidth(model, rs: float, rl: float) -> float | None:
     Returns
     -------
     float or None
-        None when the model has no capacitance or is not a hybrid-pi model.
+        None when the model has no capacitance.
     """
-    need = ("gm", "r_pi", "ro", "c_pi", "c_mu", "rb")
-    if not all(hasattr(model, n) for n in need):
-        return None
-    rl_par = _parallel(model.ro, rl)
-    c_in = model.c_pi + model.c_mu * (1.0 + model.gm * rl_par)
-    r = _parallel(rs + model.rb, model.r_pi)
+    p = model.miller_parts()
+    rl_par = _parallel(p["ro"], rl)
+    c_in = p["c_in"] + p["c_fb"] * (1.0 + p["gm"] * rl_par)
+    r = _parallel(rs + p["r_series"], p["r_shunt"])
     if c_in <= 0 or r <= 0 or not math.isfinite(c_in * r):
         return None
     return 1.0 / (2 * math.pi * r * c_in)
@@ -218,7 +218,7 @@ def frequency_figures(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1
     """
     if not (0 < f_start < f_stop):
         raise InputError(f"start: expected 0 < start < stop, got {f_start:g} Hz and {f_stop:g} Hz")
-    bare = Stage(stage.model, "cs" if stage.config in ("cs", "cg", "cd") else "ce")
+    bare = Stage(stage.model)  # the first configuration: common emitter (source)
 
     def h21(f):
         return bare.two_port(f, "h").data[:, 1, 0]
@@ -236,7 +236,7 @@ def frequency_figures(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1
     fmax = crossing(u_db, 0.0, f_start, f_stop, points)
     bw, avs0 = bandwidth(stage, f_start, f_stop, zs, zl, points)
     miller = None
-    if stage.config == "ce" and not stage.rdeg and stage.rfb is None:
+    if stage.config == stage.model.configs[0] and not stage.rdeg and stage.rfb is None:
         zl_c = complex(zl)
         miller = miller_bandwidth(stage.model, complex(zs).real,
                                   math.inf if math.isinf(zl_c.real) else zl_c.real)

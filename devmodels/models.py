@@ -17,16 +17,72 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
 from .bias import BipolarBias
-from .constants import thermal_voltage
-from .exceptions import BiasError
+from .constants import BJT_CONFIGS, thermal_voltage
+from .exceptions import BiasError, InputError
+from .netlist import Netlist, capacitor, optional, resistor, series_node, vccs
 
-__all__ = ["HybridPi", "TModel"]
+__all__ = ["HybridPi", "TModel", "hybrid_pi_values", "check_elements"]
 
 _INF = math.inf
+
+
+def check_elements(obj, positive=(), nonneg=(), resist=()) -> None:
+    """Refuse element values that are not numbers in range (scalars or arrays).
+
+    Parameters
+    ----------
+    obj : dataclass instance
+        The model; values are read by attribute name.
+    positive : names that must be finite and > 0.
+    nonneg : names that must be finite and >= 0.
+    resist : names of resistances that must be > 0 (``math.inf`` allowed: absent).
+    """
+    for names, test, what in ((positive, lambda v: np.isfinite(v) & (v > 0), "a finite value > 0"),
+                              (nonneg, lambda v: np.isfinite(v) & (v >= 0), "a finite value >= 0"),
+                              (resist, lambda v: ~np.isnan(v) & (v > 0), "a resistance > 0 ohm (inf: none)")):
+        for name in names:
+            value = getattr(obj, name)
+            if isinstance(value, (bool, np.bool_)):
+                raise InputError(f"{name}: expected a number, got {value!r}")
+            try:
+                v = np.asarray(value, dtype=float)
+            except (TypeError, ValueError):
+                raise InputError(f"{name}: expected a number, got {value!r}") from None
+            ok = test(v)
+            if not np.all(ok):
+                bad = v[~ok].flat[0] if v.ndim else v
+                raise InputError(f"{name}: expected {what}, got {float(bad):g}")
+
+
+def hybrid_pi_values(ic, beta, temp, *, va=None, ft=None, cmu=0.0) -> dict:
+    """gm, r_pi, ro, c_pi, vt at a bias point (relations in the module docstring).
+
+    Works on scalars and on arrays of samples alike (the one place these relations are
+    written).  ``c_pi`` is returned as computed, negative where fT is too high for C_mu
+    (the caller refuses it).
+
+    Parameters
+    ----------
+    ic : float or ndarray
+        Collector current in A.
+    beta : float or ndarray
+        Small-signal current gain.
+    temp : float or ndarray
+        Junction temperature in K.
+    va, ft : float or None
+        Early voltage in V and transition frequency in Hz (None: absent).
+    cmu : float
+        C_mu in F.
+    """
+    vt = thermal_voltage(temp)
+    gm = ic / vt
+    return {"gm": gm, "r_pi": beta / gm, "ro": _INF if va is None else va / ic,
+            "c_pi": 0.0 if ft is None else gm / (2 * math.pi * ft) - cmu, "vt": vt}
 
 
 @dataclass(frozen=True, slots=True)
@@ -64,6 +120,22 @@ class HybridPi:
     rex: float = 0.0
     vt: float = thermal_voltage(300.0)
 
+    #: Device family, configurations, terminal names (port order of the indefinite matrix).
+    family: ClassVar[str] = "bipolar"
+    configs: ClassVar[tuple[str, ...]] = BJT_CONFIGS
+    terminals: ClassVar[tuple[str, str, str]] = ("b", "c", "e")
+    #: Nodes of the netlist that a stage ties to its common terminal (none for a bipolar).
+    tied_to_common: ClassVar[tuple[str, ...]] = ()
+    #: Every element name the netlist may hold.
+    element_names: ClassVar[tuple[str, ...]] = ("gm", "r_pi", "ro", "c_pi", "c_mu", "rb", "r_mu", "rcx",
+                                                "rex")
+    #: The usual textbook set, the default of a formula.
+    textbook_elements: ClassVar[tuple[str, ...]] = ("gm", "r_pi", "ro", "rb", "c_pi", "c_mu")
+
+    def __post_init__(self) -> None:
+        check_elements(self, positive=("gm", "r_pi", "vt"), nonneg=("c_pi", "c_mu", "rb", "rcx", "rex"),
+                       resist=("ro", "r_mu"))
+
     @classmethod
     def from_bias(cls, bias: BipolarBias) -> "HybridPi":
         """Element values at a bias point (relations in the module docstring).
@@ -73,22 +145,49 @@ class HybridPi:
         BiasError
             When C_pi comes out negative: fT is too high for the given C_mu.
         """
-        vt = thermal_voltage(bias.temp)
-        gm = bias.ic / vt
-        r_pi = bias.beta / gm
-        ro = _INF if bias.va is None else bias.va / bias.ic
-        if bias.ft is None:
-            c_pi = 0.0
-        else:
-            c_pi = gm / (2 * math.pi * bias.ft) - bias.cmu
-            if c_pi < 0:
-                ft_max = gm / (2 * math.pi * bias.cmu)
-                raise BiasError(
-                    f"ft: {bias.ft:g} Hz is too high for cmu = {bias.cmu:g} F at ic = {bias.ic:g} A "
-                    f"(C_pi would be {c_pi:g} F; fT must not exceed gm/(2 pi C_mu) = {ft_max:g} Hz)")
+        v = hybrid_pi_values(bias.ic, bias.beta, bias.temp, va=bias.va, ft=bias.ft, cmu=bias.cmu)
+        if v["c_pi"] < 0:
+            ft_max = v["gm"] / (2 * math.pi * bias.cmu)
+            raise BiasError(
+                f"ft: {bias.ft:g} Hz is too high for cmu = {bias.cmu:g} F at ic = {bias.ic:g} A "
+                f"(C_pi would be {v['c_pi']:g} F; fT must not exceed gm/(2 pi C_mu) = {ft_max:g} Hz)")
         r_mu = _INF if bias.rmu is None else bias.rmu
-        return cls(gm=gm, r_pi=r_pi, ro=ro, c_pi=c_pi, c_mu=bias.cmu, rb=bias.rb, r_mu=r_mu,
-                   rcx=bias.rcx, rex=bias.rex, vt=vt)
+        return cls(gm=v["gm"], r_pi=v["r_pi"], ro=v["ro"], c_pi=v["c_pi"], c_mu=bias.cmu, rb=bias.rb,
+                   r_mu=r_mu, rcx=bias.rcx, rex=bias.rex, vt=v["vt"])
+
+    @classmethod
+    def placeholder(cls, present) -> "HybridPi":
+        """A model whose netlist holds exactly the elements named in ``present`` (values 1).
+
+        Used by the symbolic back end, which needs only the names.  ``gm`` and ``r_pi``
+        are always there.
+        """
+        one = {n: 1.0 for n in present if n in cls.element_names}
+        absent = {"ro": _INF, "r_mu": _INF, "c_pi": 0.0, "c_mu": 0.0, "rb": 0.0, "rcx": 0.0, "rex": 0.0}
+        return cls(gm=1.0, r_pi=1.0, **{k: one.get(k, v) for k, v in absent.items()})
+
+    def miller_parts(self) -> dict[str, float]:
+        """gm, r_shunt = r_pi, r_series = rb, c_in = C_pi, c_fb = C_mu, ro: the Miller estimate's inputs."""
+        return {"gm": self.gm, "r_shunt": self.r_pi, "r_series": self.rb, "c_in": self.c_pi,
+                "c_fb": self.c_mu, "ro": self.ro}
+
+    def netlist(self) -> Netlist:
+        """The model's elements between its terminals b, c, e and internal nodes b', c', e'.
+
+        A zero series resistance (rb, rcx, rex) is no element: the terminal is the internal node.
+        """
+        elements, b = series_node("rb", "b", "b'", self.rb)
+        more, c = series_node("rcx", "c", "c'", self.rcx)
+        elements += more
+        more, e = series_node("rex", "e", "e'", self.rex)
+        elements += more
+        elements += [resistor("r_pi", b, e, self.r_pi),
+                     *optional(capacitor("c_pi", b, e, self.c_pi)),
+                     *optional(resistor("r_mu", b, c, self.r_mu)),
+                     *optional(capacitor("c_mu", b, c, self.c_mu)),
+                     *optional(resistor("ro", c, e, self.ro)),
+                     vccs("gm", c, e, b, e, self.gm)]
+        return Netlist(tuple(elements))
 
     # --- derived quantities -------------------------------------------------------
     @property
@@ -117,26 +216,6 @@ class HybridPi:
         """Beta cut-off 1 / (2 pi r_pi (C_pi + C_mu)) in Hz; ``None`` without capacitance."""
         c = self.c_pi + self.c_mu
         return None if c <= 0 else 1.0 / (2 * math.pi * self.r_pi * c)
-
-    def intrinsic_stamp(self, omega: np.ndarray, Y: np.ndarray, b: int, c: int, e: int) -> None:
-        """Add the intrinsic device (between internal nodes b', c', e') to nodal matrix ``Y``.
-
-        Parameters
-        ----------
-        omega : ndarray, shape (F,)
-            Angular frequency in rad/s.
-        Y : ndarray, complex, shape (F, n, n)
-            Nodal admittance matrix to add to, in S.
-        b, c, e : int
-            Node indices of the intrinsic base, collector and emitter.
-        """
-        from .indefinite import stamp_admittance, stamp_vccs
-
-        jw = 1j * omega
-        stamp_admittance(Y, b, e, 1.0 / self.r_pi + jw * self.c_pi)
-        stamp_admittance(Y, b, c, _g(self.r_mu) + jw * self.c_mu)
-        stamp_admittance(Y, c, e, _g(self.ro))
-        stamp_vccs(Y, c, e, b, e, self.gm)
 
     def to_t(self) -> "TModel":
         """The T model with the same terminal behaviour."""
@@ -181,22 +260,33 @@ class TModel:
         """T model at a bias point (through the hybrid-pi relations)."""
         return HybridPi.from_bias(bias).to_t()
 
-    def intrinsic_stamp(self, omega: np.ndarray, Y: np.ndarray, b: int, c: int, e: int) -> None:
-        """Add the intrinsic T model to nodal matrix ``Y`` (see :meth:`HybridPi.intrinsic_stamp`)."""
-        from .indefinite import stamp_admittance, stamp_cccs_branch
+    family: ClassVar[str] = "bipolar"
+    configs: ClassVar[tuple[str, ...]] = BJT_CONFIGS
+    terminals: ClassVar[tuple[str, str, str]] = ("b", "c", "e")
+    tied_to_common: ClassVar[tuple[str, ...]] = ()
+    element_names: ClassVar[tuple[str, ...]] = ("re", "gm", "c_e", "ro", "c_mu", "rb", "r_mu", "rcx", "rex")
 
-        jw = 1j * omega
-        ye = 1.0 / self.re + jw * self.c_e
-        a_w = (self.alpha / self.re) / ye
-        stamp_cccs_branch(Y, b, e, ye, c, b, a_w)
-        stamp_admittance(Y, b, c, _g(self.r_mu) + jw * self.c_mu)
-        stamp_admittance(Y, c, e, _g(self.ro))
+    def __post_init__(self) -> None:
+        check_elements(self, positive=("re", "alpha", "vt"), nonneg=("c_e", "c_mu", "rb", "rcx", "rex"),
+                       resist=("ro", "r_mu"))
 
+    def netlist(self) -> Netlist:
+        """The T model's elements: re || C_e from b' to e', the source alpha i_e from c' into b'.
 
-def _g(r):
-    """Conductance of a resistance in ohm (0 for an infinite one); scalars or arrays."""
-    if np.ndim(r) == 0:
-        return 0.0 if math.isinf(r) else 1.0 / r
-    r = np.asarray(r, dtype=float)
-    with np.errstate(divide="ignore"):
-        return np.where(np.isinf(r), 0.0, 1.0 / r)
+        The source is written as controlled by the branch voltage v(b'e'): its current is
+        alpha i_e = (alpha/re) v(b'e') when C_e = 0; with C_e the branch current is
+        y_e v(b'e') and the source alpha(jw) i_e = (alpha/re) v(b'e') still (module
+        docstring), so its value is alpha/re (= gm of the hybrid-pi), named ``gm``.
+        """
+        elements, b = series_node("rb", "b", "b'", self.rb)
+        more, c = series_node("rcx", "c", "c'", self.rcx)
+        elements += more
+        more, e = series_node("rex", "e", "e'", self.rex)
+        elements += more
+        elements += [resistor("re", b, e, self.re),
+                     *optional(capacitor("c_e", b, e, self.c_e)),
+                     vccs("gm", c, b, b, e, self.alpha / self.re),
+                     *optional(resistor("r_mu", b, c, self.r_mu)),
+                     *optional(capacitor("c_mu", b, c, self.c_mu)),
+                     *optional(resistor("ro", c, e, self.ro))]
+        return Netlist(tuple(elements))

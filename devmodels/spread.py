@@ -16,11 +16,11 @@ when a network is given; otherwise IC and VCE are fixed), the hybrid-pi model (r
 :mod:`devmodels.models`), the stage's Y parameters at one frequency, and the terminated
 analysis (:func:`devmodels.analysis.terminate_arrays` and ``stability_arrays``).
 
-The Y parameters are built here by nodal stamping and Kron reduction, as in
-:mod:`devmodels.indefinite`, but on one array of samples per matrix element instead of
-an (N, n, n) matrix: the common terminal is grounded before the internal nodes are
-eliminated, and elements that are zero are never touched.  The tests check it against
-the scalar pipeline (:class:`devmodels.stage.Stage`).
+The model is made by the relations of :func:`devmodels.models.hybrid_pi_values` on arrays
+of samples, and the stage's Y parameters come from the stage's own netlist
+(:meth:`devmodels.stage.Stage.indefinite_block`) with the samples as the points: the same
+description and engine as a frequency sweep.  The tests check it against the scalar
+pipeline sample by sample.
 
 Samples are processed in chunks of :data:`CHUNK`, so the working memory is bounded; what
 grows with the sample count is only the stored results (8 bytes per sample per result).
@@ -40,13 +40,16 @@ from typing import Callable
 import numpy as np
 
 from .bias import DEFAULT_VCE_SAT
-from .constants import BJT_CONFIGS, thermal_voltage
+from .configs import config_y
+from .constants import BJT_CONFIGS
 from .exceptions import InputError
 from .dcbias import REGIONS, BiasNetwork, rating_warnings, solve_arrays
+from .models import HybridPi, hybrid_pi_values
+from .stage import Stage
 from .temperature import BETA_TC_DEFAULT, T_REF, VBE_DEFAULT, VBE_TC_DEFAULT, beta_at, vbe_at
 
 __all__ = ["CHUNK", "RESULTS", "QUANTILES", "SpreadSetup", "SpreadRanges", "SpreadResult", "evaluate",
-           "stage_y_arrays", "run_spread"]
+           "run_spread"]
 
 #: Samples per chunk (bounds the working memory; part of what a seed reproduces). Measured on
 #: 1e6 samples: 16384 gives 1.6e6 samples/s, 32768 1.4e6, 4096 1.2e6.
@@ -247,48 +250,6 @@ class SpreadResult:
     warnings: tuple[str, ...] = field(default=())
 
 
-def stage_y_arrays(config: str, freq: float, *, gm, r_pi, go=0.0, c_pi=0.0, c_mu=0.0, g_mu=0.0, rb=0.0,
-                   rcx=0.0, rex=0.0, g_fb=0.0) -> np.ndarray:
-    """Y parameters (N, 2, 2) of a hybrid-pi stage for arrays of element values.
-
-    Parameters
-    ----------
-    config : {'ce', 'cb', 'cc'}
-        Configuration.
-    freq : float
-        Frequency in Hz (one for all samples).
-    gm, r_pi, go, c_pi, c_mu, g_mu : float or ndarray (N,)
-        Transconductance (S), r_pi (ohm), 1/ro (S), C_pi, C_mu (F), 1/r_mu (S).
-    rb, rcx, rex : float or ndarray (N,)
-        Series base, collector and emitter resistances (ohm; rex includes any degeneration).
-        Each must be either > 0 for every sample or 0 for every sample.
-    g_fb : float or ndarray (N,)
-        Conductance of an external collector-base feedback resistor (S; 0 for none).
-
-    Returns
-    -------
-    ndarray, complex, shape (N, 2, 2)
-        Y parameters in S.
-    """
-    from .configs import config_y
-    from .indefinite import assemble_block
-    from .models import HybridPi
-
-    def resistance(g):  # conductance (S) -> resistance (ohm); 0 S is an open (infinite ohm)
-        g = np.asarray(g, dtype=float)
-        with np.errstate(divide="ignore"):
-            return np.where(g == 0, math.inf, 1.0 / g) if g.ndim else (math.inf if g == 0 else 1.0 / g)
-
-    arrays = [np.asarray(v) for v in (gm, r_pi, go, c_pi, c_mu, g_mu, rb, rcx, rex, g_fb)]
-    n = np.broadcast_shapes(*(a.shape for a in arrays), (1,))[0]
-    model = HybridPi(gm=gm, r_pi=r_pi, ro=resistance(go), c_pi=c_pi, c_mu=c_mu, rb=rb,
-                     r_mu=resistance(g_mu), rcx=rcx, rex=rex)
-    r_fb = None if not np.any(np.asarray(g_fb) != 0) else resistance(g_fb)
-    # the same stamping and Kron reduction as a frequency sweep, with samples as the points
-    Y3 = assemble_block(model, 2 * math.pi * freq, n, rfb=r_fb)
-    return config_y(Y3, config)
-
-
 def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] | None = None) -> dict:
     """Every result for arrays of samples (vectorised over the leading axis).
 
@@ -329,14 +290,11 @@ def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] 
         vce = np.full(n, setup.vce)
         power = ic * vce
         region = np.zeros(n, dtype=np.int8)
-    vt = thermal_voltage(temp)
     ic_safe = np.where(region == 0, ic, 1.0)
-    gm = np.broadcast_to(ic_safe / vt, (n,))
-    if setup.ft is not None:
-        c_pi = gm / (2 * math.pi * setup.ft) - setup.cmu
-        region = np.where((region == 0) & (c_pi < 0), 3, region).astype(np.int8)
-    else:
-        c_pi = np.zeros(n)
+    # the model relations of devmodels.models, on arrays of samples
+    v = hybrid_pi_values(ic_safe, beta, temp, va=setup.va, ft=setup.ft, cmu=setup.cmu)
+    c_pi = np.broadcast_to(v["c_pi"], (n,))
+    region = np.where((region == 0) & (c_pi < 0), 3, region).astype(np.int8)
     ok = region == 0
     out = {name: np.full(n, np.nan) for name in RESULTS}
     out["ic"], out["vce"], out["power"] = np.array(ic, dtype=float), np.array(vce, dtype=float), np.array(power, dtype=float)
@@ -347,17 +305,17 @@ def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] 
     every = bool(ok.all())
 
     def pick(a):  # the samples that have a small-signal point (no copy when all have)
-        return a if every or np.ndim(a) == 0 else a[ok]
+        return a if every or np.ndim(a) == 0 else np.broadcast_to(a, (n,))[ok]
 
-    gm_k, beta_k, ic_k = pick(gm), pick(beta), pick(ic_safe)
-    rdeg = res.get("rdeg", 0.0)
+    count = int(ok.sum())
+    model = HybridPi(gm=pick(v["gm"]), r_pi=pick(v["r_pi"]),
+                     ro=v["ro"] if np.ndim(v["ro"]) == 0 else pick(v["ro"]), c_pi=pick(c_pi),
+                     c_mu=setup.cmu, rb=setup.rb, r_mu=math.inf if setup.rmu is None else setup.rmu,
+                     rcx=setup.rcx, rex=setup.rex, vt=pick(v["vt"]))
     rfb = res.get("rfb")
-    y = stage_y_arrays(
-        setup.config, setup.freq, gm=gm_k, r_pi=beta_k / gm_k,
-        go=0.0 if setup.va is None else ic_k / setup.va, c_pi=pick(c_pi), c_mu=setup.cmu,
-        g_mu=0.0 if setup.rmu is None else 1.0 / setup.rmu, rb=setup.rb, rcx=setup.rcx,
-        rex=setup.rex + pick(rdeg), g_fb=0.0 if rfb is None else 1.0 / pick(rfb))
-    y = np.broadcast_to(y, (gm_k.size, 2, 2))
+    stage = Stage(model, setup.config, rdeg=pick(res.get("rdeg", 0.0)), rfb=None if rfb is None else pick(rfb))
+    # the same netlist and engine as a frequency sweep, with the samples as the points
+    y = config_y(stage.indefinite_block(2 * math.pi * setup.freq, count), setup.config)
     abcd = convert(y, "y", "abcd")
     term = terminate_arrays(abcd, setup.rs, setup.rl)
     st = stability_arrays(convert(y, "y", "s", setup.z0))

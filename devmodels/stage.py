@@ -1,16 +1,42 @@
-"""The stage pipeline: bias point -> model -> indefinite matrix -> configuration two-port."""
+"""A stage: a device model in a configuration, with its external elements, as one netlist.
+
+The stage's netlist is the device's netlist (:meth:`HybridPi.netlist`,
+:meth:`FetModel.netlist`, ...) with
+
+- the nodes the device ties to the common terminal (a FET's body) joined to it;
+- ``rdeg``: a resistor in series with the emitter (source) terminal;
+- ``rfb``: a resistor from the collector (drain) to the base (gate).
+
+Its terminals keep the device's names (b, c, e or g, d, s).  One engine
+(:func:`devmodels.netlist.reduce_to`) turns it into the indefinite matrix at the terminals,
+and the configuration picks the two-port out of that (:mod:`devmodels.configs`).
+"""
 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Protocol
 
 import numpy as np
 
-from .configs import check_config, config_y
-from .indefinite import check_freq, device_indefinite
+from .configs import CONFIG_TERMINALS, config_y
+from .exceptions import InputError
+from .netlist import Netlist, check_freq, reduce_over_freq, reduce_to, resistor
 from .twoport import TwoPort
 
-__all__ = ["Stage", "stage_two_port"]
+__all__ = ["Stage", "DeviceModel", "stage_two_port"]
+
+
+class DeviceModel(Protocol):
+    """What a stage needs from a device model (bipolar and FET models implement it)."""
+
+    family: str
+    configs: tuple[str, ...]
+    terminals: tuple[str, str, str]
+    tied_to_common: tuple[str, ...]
+    element_names: tuple[str, ...]
+
+    def netlist(self) -> Netlist: ...
 
 
 @dataclass(frozen=True, slots=True)
@@ -19,30 +45,79 @@ class Stage:
 
     Parameters
     ----------
-    model : HybridPi, TModel or a FET model
-        The small-signal device model.
-    config : str
-        ``ce``, ``cb``, ``cc`` (or ``cs``, ``cg``, ``cd`` for FETs).
-    rdeg : float
-        External emitter/source degeneration resistance in ohm (0: none).
-    rfb : float or None
-        External collector-base/drain-gate feedback resistance in ohm (None: none).
+    model : DeviceModel
+        The small-signal device model (:class:`~devmodels.models.HybridPi`,
+        :class:`~devmodels.models.TModel`, :class:`~devmodels.fet.FetModel`).
+    config : str, optional
+        One of ``model.configs`` (``ce``, ``cb``, ``cc`` or ``cs``, ``cg``, ``cd``);
+        default the first of them (common emitter / common source).
+    rdeg : float or ndarray
+        External emitter (source) degeneration resistance in ohm (0: none).
+    rfb : float, ndarray or None
+        External collector-base (drain-gate) feedback resistance in ohm (None: none).
     """
 
-    model: object
-    config: str = "ce"
-    rdeg: float = 0.0
-    rfb: float | None = None
+    model: DeviceModel
+    config: str | None = None
+    rdeg: object = 0.0
+    rfb: object = None
 
     def __post_init__(self) -> None:
-        check_config(self.config)
+        configs = getattr(self.model, "configs", None)
+        if configs is None or not callable(getattr(self.model, "netlist", None)):
+            raise InputError(f"model: expected a device model (HybridPi, TModel, FetModel), "
+                             f"got {type(self.model).__name__}")
+        if self.config is None:
+            object.__setattr__(self, "config", configs[0])
+        if self.config not in configs:
+            raise InputError(f"config: {self.config!r} is not a configuration of a {self.model.family} "
+                             f"device; use {', '.join(configs)}")
+        rdeg = np.asarray(self.rdeg, dtype=float)
+        if not np.all(np.isfinite(rdeg) & (rdeg >= 0)):
+            raise InputError(f"rdeg: expected a resistance >= 0 ohm, got {_first_bad(rdeg, lambda v: v >= 0)}")
+        if self.rfb is not None:
+            rfb = np.asarray(self.rfb, dtype=float)
+            if not np.all(np.isfinite(rfb) & (rfb > 0)):
+                raise InputError(f"rfb: expected a positive resistance in ohm, got "
+                                 f"{_first_bad(rfb, lambda v: v > 0)}")
+
+    @property
+    def terminals(self) -> tuple[str, str, str]:
+        """The device's terminal names, the node order of :meth:`indefinite`."""
+        return self.model.terminals
+
+    def netlist(self) -> Netlist:
+        """The stage's netlist (module docstring)."""
+        model = self.model
+        b, c, e = model.terminals
+        net = model.netlist()
+        extra = []
+        if np.any(np.asarray(self.rdeg) != 0):
+            net = net.renamed({e: e + "_dev"})
+            extra.append(resistor("rdeg", e + "_dev", e, self.rdeg))
+        # nodes tied to the common terminal (a FET's body) join it at the terminal, below rdeg
+        common = model.terminals[CONFIG_TERMINALS[self.config][2]]
+        net = net.renamed({n: common for n in model.tied_to_common})
+        if self.rfb is not None:
+            extra.append(resistor("rfb", c, b, self.rfb))
+        return net + Netlist(tuple(extra))
+
+    @property
+    def same_indefinite_for_all_configs(self) -> bool:
+        """True when the indefinite matrix does not depend on the configuration (nothing is
+        tied to the common terminal, e.g. any bipolar model, or a FET without body elements)."""
+        return not self.model.netlist().touches(self.model.tied_to_common)
+
+    def indefinite_block(self, omega, n: int) -> np.ndarray:
+        """Indefinite matrix (n, 3, 3) at angular frequency ``omega`` (rad/s; scalar or (n,)).
+
+        Element values may be arrays of shape (n,) (the samples of a spread).
+        """
+        return reduce_to(self.netlist(), self.terminals, omega, n)
 
     def indefinite(self, freq) -> np.ndarray:
-        """Indefinite admittance matrix (F, 3, 3) in S."""
-        stamp = getattr(self.model, "indefinite_for_config", None)
-        if stamp is not None:  # models whose terminal matrix depends on the configuration
-            return stamp(freq, self.config, rdeg=self.rdeg, rfb=self.rfb)
-        return device_indefinite(self.model, freq, rdeg=self.rdeg, rfb=self.rfb)
+        """Indefinite admittance matrix (F, 3, 3) in S, node order ``terminals``."""
+        return reduce_over_freq(self.netlist(), self.terminals, freq)
 
     def two_port(self, freq, kind: str = "y", z0=50.0) -> TwoPort:
         """Parameters of ``kind`` at frequencies ``freq`` (Hz)."""
@@ -51,7 +126,14 @@ class Stage:
         return TwoPort(f, y, "y", z0, self.config).to(kind)
 
 
+def _first_bad(v: np.ndarray, ok) -> str:
+    flat = np.atleast_1d(v)
+    bad = flat[~(np.isfinite(flat) & ok(flat))]
+    return f"{float(bad[0]):g}" if bad.size else "?"
+
+
 def stage_two_port(model, config: str, freq, kind: str = "y", z0=50.0, *, rdeg: float = 0.0,
                    rfb: float | None = None) -> TwoPort:
     """Shorthand for ``Stage(model, config, rdeg, rfb).two_port(freq, kind, z0)``."""
     return Stage(model, config, rdeg, rfb).two_port(freq, kind, z0)
+

@@ -1,8 +1,9 @@
 r"""Results of a stage as formulas in symbols, derived from the nodal equations with sympy.
 
-Nothing here is a typed-in textbook formula: the small-signal circuit of the stage is
-stamped element by element into a symbolic nodal admittance matrix (the same elements
-and the same places as :mod:`devmodels.indefinite` and :class:`devmodels.fet.FetModel`),
+Nothing here is a typed-in textbook formula: the stage's own netlist
+(:meth:`devmodels.stage.Stage.netlist`, the same description the numeric engine reads) is
+stamped element by element into a symbolic nodal admittance matrix, each element's name
+as its symbol (``gm``, ``r_pi``, ``c_mu``, ``rdeg``, ...: the keys of ``model --json``),
 the common terminal is the reference node, and each result is solved from the nodal
 equations by Cramer's rule and simplified:
 
@@ -27,24 +28,34 @@ import math
 from dataclasses import dataclass
 
 from .configs import CONFIG_TERMINALS
-from .constants import BJT_CONFIGS, FET_CONFIGS
 from .exceptions import InputError
 
-__all__ = ["Formula", "derive", "element_values", "RESULTS", "BJT_ELEMENTS", "FET_ELEMENTS"]
+__all__ = ["Formula", "derive", "element_values", "engine_check", "EngineCheck", "RESULTS", "EXTERNAL",
+           "model_class"]
 
 #: Results that can be derived.
 RESULTS: tuple[str, ...] = ("av", "avs", "ai", "zin", "zout")
-#: Element symbols of the bipolar hybrid-pi (and the external resistors).
-BJT_ELEMENTS: tuple[str, ...] = ("g_m", "r_pi", "r_o", "r_b", "C_pi", "C_mu", "r_mu", "r_cx", "r_ex",
-                                 "R_deg", "R_fb")
-#: Element symbols of the FET model (and the external resistors).
-FET_ELEMENTS: tuple[str, ...] = ("g_m", "g_mb", "r_o", "C_gs", "C_gd", "C_sb", "C_db", "r_g", "r_dx",
-                                 "r_sx", "R_deg", "R_fb")
-#: Elements present when none are given: the usual textbook sets.
-DEFAULT_BJT = ("g_m", "r_pi", "r_o", "r_b", "C_pi", "C_mu")
-DEFAULT_FET = ("g_m", "g_mb", "r_o", "C_gs", "C_gd")
+#: Names of the stage's external elements (beside the device model's own).
+EXTERNAL: tuple[str, ...] = ("rdeg", "rfb")
+#: How symbols are written in LaTeX (every other name as sympy writes it).
+LATEX_NAMES: dict[str, str] = {
+    "gm": "g_{m}", "gmb": "g_{mb}", "ro": "r_{o}", "rb": "r_{b}", "rcx": "r_{cx}", "rex": "r_{ex}",
+    "rg": "r_{g}", "rdx": "r_{dx}", "rsx": "r_{sx}", "rdeg": "R_{deg}", "rfb": "R_{fb}",
+    "cgs": "C_{gs}", "cgd": "C_{gd}", "csb": "C_{sb}", "cdb": "C_{db}", "c_pi": "C_{\\pi}",
+    "c_mu": "C_{\\mu}", "c_e": "C_{e}", "re": "r_{e}", "R_S": "R_{S}", "R_L": "R_{L}",
+}
 
-_CAPS = {"C_pi", "C_mu", "C_gs", "C_gd", "C_sb", "C_db"}
+
+def model_class(config: str):
+    """The device model class whose configurations include ``config``."""
+    from .fet import FetModel
+    from .models import HybridPi
+
+    for cls in (HybridPi, FetModel):
+        if config in cls.configs:
+            return cls
+    allowed = HybridPi.configs + FetModel.configs
+    raise InputError(f"config: unknown configuration {config!r}, expected one of {', '.join(allowed)}")
 
 
 @dataclass(frozen=True)
@@ -77,7 +88,10 @@ class Formula:
         """LaTeX form."""
         import sympy as sp
 
-        return r"\infty" if self.expr is None else sp.latex(self.expr)
+        if self.expr is None:
+            return r"\infty"
+        names = {x: LATEX_NAMES[str(x)] for x in self.expr.free_symbols if str(x) in LATEX_NAMES}
+        return sp.latex(self.expr, symbol_names=names)
 
     def value(self, values: dict[str, float], freq: float = 0.0) -> complex | None:
         """The number at element ``values`` (SI units) and frequency ``freq`` (Hz)."""
@@ -111,61 +125,32 @@ def _cond(name: str):
     return _symbol(_G + name)
 
 
-def _circuit(config: str, present: set[str]):
-    """Nodes and stamps of the stage: (node names, passive list, vccs list), reference = common."""
+def _circuit(config: str, present: frozenset, low_frequency: bool):
+    """Nodes and stamps of the stage's netlist: (nodes, passive list, vccs list, p1, p2, reference)."""
     import sympy as sp
 
-    fet = config in FET_CONFIGS
-    terms = ("g", "d", "s") if fet else ("b", "c", "e")
-    p1, p2, k = (terms[i] for i in CONFIG_TERMINALS[config])
-    S = {n: _symbol(n) for n in present}
+    from .stage import Stage
+
+    cls = model_class(config)
+    stage = Stage(cls.placeholder(present), config, rdeg=1.0 if "rdeg" in present else 0.0,
+                  rfb=1.0 if "rfb" in present else None)
+    net = stage.netlist()
     s = sp.Symbol("s")
     passive: list[tuple[str, str, object]] = []
     vccs: list[tuple[str, str, str, str, object]] = []
-    nodes = [t for t in terms if t != k]
-
-    def inner(term: str, rname: str, extra: str | None = None) -> str:
-        node = term
-        for i, r in enumerate((extra, rname)):
-            if r is not None and r in present:
-                new = f"{term}{i + 1}"
-                nodes.append(new)
-                passive.append((node, new, _cond(r)))
-                node = new
-        return node
-
-    def cap(name):
-        return s * S[name] if name in present else None
-
-    if fet:
-        g = inner("g", "r_g")
-        d = inner("d", "r_dx")
-        src = inner("s", "r_sx", "R_deg")
-        body = k
-        for a, b, y in ((g, src, cap("C_gs")), (g, d, cap("C_gd")), (src, body, cap("C_sb")),
-                        (d, body, cap("C_db"))):
-            if y is not None:
-                passive.append((a, b, y))
-        if "r_o" in present:
-            passive.append((d, src, _cond("r_o")))
-        vccs.append((d, src, g, src, S["g_m"]))
-        if "g_mb" in present:
-            vccs.append((d, src, body, src, S["g_mb"]))
-    else:
-        b = inner("b", "r_b")
-        c = inner("c", "r_cx")
-        e = inner("e", "r_ex", "R_deg")
-        passive.append((b, e, _cond("r_pi")))
-        for a, bb, y in ((b, e, cap("C_pi")), (b, c, cap("C_mu"))):
-            if y is not None:
-                passive.append((a, bb, y))
-        if "r_mu" in present:
-            passive.append((b, c, _cond("r_mu")))
-        if "r_o" in present:
-            passive.append((c, e, _cond("r_o")))
-        vccs.append((c, e, b, e, S["g_m"]))
-    if "R_fb" in present:
-        passive.append((terms[0], terms[1], _cond("R_fb")))
+    for el in net.elements:
+        if el.kind == "resistor":
+            passive.append((el.nodes[0], el.nodes[1], _cond(el.name)))
+        elif el.kind == "capacitor":
+            if not low_frequency:
+                passive.append((el.nodes[0], el.nodes[1], s * _symbol(el.name)))
+        else:
+            vccs.append((*el.nodes, _symbol(el.name)))
+    p1, p2, k = (stage.terminals[i] for i in CONFIG_TERMINALS[config])
+    nodes = [n for n in net.nodes if n != k]
+    for t in (p1, p2):  # a port terminal with no element (a FET's gate with no capacitance) stays a node
+        if t not in nodes:
+            nodes.append(t)
     return nodes, passive, vccs, p1, p2, k
 
 
@@ -286,8 +271,9 @@ def derive(config: str, result: str, elements=None, *, rs: bool = True, rl: bool
     result : {'av', 'avs', 'ai', 'zin', 'zout'}
         The result wanted (definitions in the module docstring).
     elements : iterable of str, optional
-        Element symbols present (from :data:`BJT_ELEMENTS` / :data:`FET_ELEMENTS`);
-        default the usual set (g_m, r_pi, r_o, r_b, C_pi, C_mu / g_m, g_mb, r_o, C_gs, C_gd).
+        Names of the elements present: the model's (``HybridPi.element_names``,
+        ``FetModel.element_names``) and ``rdeg``, ``rfb``; default the model's
+        ``textbook_elements`` (gm, r_pi, ro, rb, c_pi, c_mu / gm, gmb, ro, cgs, cgd).
     rs : bool
         A source resistance R_S is present (else the source is ideal: R_S = 0).
     rl : bool
@@ -299,34 +285,28 @@ def derive(config: str, result: str, elements=None, *, rs: bool = True, rl: bool
     -------
     Formula
     """
-    if config not in BJT_CONFIGS + FET_CONFIGS:
-        raise InputError(f"config: unknown configuration {config!r}, expected one of "
-                         f"{', '.join(BJT_CONFIGS + FET_CONFIGS)}")
+    cls = model_class(config)
     if result not in RESULTS:
         raise InputError(f"result: unknown result {result!r}, expected one of {', '.join(RESULTS)}")
-    fet = config in FET_CONFIGS
-    allowed = FET_ELEMENTS if fet else BJT_ELEMENTS
-    present = set(elements if elements is not None else (DEFAULT_FET if fet else DEFAULT_BJT))
+    allowed = cls.element_names + EXTERNAL
+    present = set(elements if elements is not None else cls.textbook_elements)
     unknown = present - set(allowed)
     if unknown:
-        raise InputError(f"elements: {', '.join(sorted(unknown))} not in the "
-                         f"{'FET' if fet else 'bipolar'} model ({', '.join(allowed)})")
-    present |= {"g_m"} | (set() if fet else {"r_pi"})
-    if low_frequency:
-        present -= _CAPS
+        raise InputError(f"elements: {', '.join(sorted(unknown))} not in the {cls.family} model "
+                         f"({', '.join(allowed)})")
     if result == "ai" and not rl:
         raise InputError("rl: the current gain -I2/I1 needs a load resistance R_L")
-    expr = _derive(config, result, frozenset(present), rs, rl)
-    names = tuple(sorted(present)) + (("R_S",) if rs else ()) + (("R_L",) if rl else ()) + ("s",)
-    return Formula(result, config, expr, names)
+    expr = _derive(config, result, frozenset(present), rs, rl, low_frequency)
+    names = tuple(sorted(str(x) for x in expr.free_symbols if str(x) != "s")) if expr is not None else ()
+    return Formula(result, config, expr, names + ("s",))
 
 
 @functools.lru_cache(maxsize=256)
-def _derive(config: str, result: str, present: frozenset, rs: bool, rl: bool):
+def _derive(config: str, result: str, present: frozenset, rs: bool, rl: bool, low_frequency: bool):
     """The simplified expression (cached: a derivation with many elements takes seconds)."""
     import sympy as sp
 
-    nodes, passive, vccs, p1, p2, ref = _circuit(config, set(present))
+    nodes, passive, vccs, p1, p2, ref = _circuit(config, present, low_frequency)
     GS, GL = _cond("R_S"), _cond("R_L")
     load = [(p2, ref, GL)] if rl and result != "zout" else []
     expr = None
@@ -365,27 +345,77 @@ def _derive(config: str, result: str, present: frozenset, rs: bool, rl: bool):
 
 
 def element_values(model, *, rdeg: float = 0.0, rfb: float | None = None) -> dict[str, float]:
-    """Symbol values (SI units) of a model's elements that are present (see the module docstring).
+    """Symbol values (SI units) of the elements present in a stage's netlist.
 
     Parameters
     ----------
-    model : HybridPi or FetModel
-        The device model.
+    model : device model
+        :class:`~devmodels.models.HybridPi` or :class:`~devmodels.fet.FetModel`.
     rdeg : float
         External emitter/source resistance in ohm (0: none).
     rfb : float or None
         External collector-base/drain-gate resistance in ohm (None: none).
     """
-    from .fet import FetModel
+    from .stage import Stage
 
-    if isinstance(model, FetModel):
-        pairs = {"g_m": model.gm, "g_mb": model.gmb, "r_o": model.ro, "C_gs": model.cgs, "C_gd": model.cgd,
-                 "C_sb": model.csb, "C_db": model.cdb, "r_g": model.rg, "r_dx": model.rdx, "r_sx": model.rsx}
-    elif hasattr(model, "r_pi"):
-        pairs = {"g_m": model.gm, "r_pi": model.r_pi, "r_o": model.ro, "r_b": model.rb, "C_pi": model.c_pi,
-                 "C_mu": model.c_mu, "r_mu": model.r_mu, "r_cx": model.rcx, "r_ex": model.rex}
-    else:
-        raise InputError(f"model: expected a HybridPi or a FetModel, got {type(model).__name__}")
-    pairs["R_deg"] = rdeg
-    pairs["R_fb"] = math.inf if rfb is None else rfb
-    return {k: float(v) for k, v in pairs.items() if v != 0 and math.isfinite(v)}
+    return {k: float(v) for k, v in Stage(model, None, rdeg, rfb).netlist().values().items()}
+
+
+@dataclass(frozen=True)
+class EngineCheck:
+    """A formula's value beside the numeric engine's, at one frequency.
+
+    Attributes
+    ----------
+    value : complex or None
+        The formula at the element values (None: open/unbounded).
+    engine : complex or None
+        The same result from the numeric engine (None: open/unbounded).
+    rel_diff : float or None
+        |value - engine| / |engine|; 0 when both are None; None when only one is.
+    symbols : dict
+        The values of the symbols the formula contains (SI units).
+    """
+
+    value: complex | None
+    engine: complex | None
+    rel_diff: float | None
+    symbols: dict
+
+
+def engine_check(formula: Formula, stage, freq: float, rs: float | None, rl: float | None) -> EngineCheck:
+    """Evaluate ``formula`` for ``stage`` and compare it with the numeric engine.
+
+    Parameters
+    ----------
+    formula : Formula
+        A formula derived for ``stage.config``.
+    stage : Stage
+        The stage whose element values are used.
+    freq : float
+        Frequency in Hz.
+    rs, rl : float or None
+        Source and load resistances in ohm (None: ideal source, open load).
+    """
+    import numpy as np
+
+    from .analysis import terminate
+    from .exceptions import SingularParameterError
+
+    ev = element_values(stage.model, rdeg=stage.rdeg, rfb=stage.rfb)
+    if rs is not None:
+        ev["R_S"] = rs
+    if rl is not None:
+        ev["R_L"] = rl
+    used = {str(x) for x in formula.expr.free_symbols} if formula.expr is not None else set()
+    val = formula.value(ev, freq)
+    try:
+        with np.errstate(invalid="ignore", divide="ignore"):  # NaN = does not exist
+            tr = terminate(stage.two_port([freq]), 0.0 if rs is None else rs, math.inf if rl is None else rl)
+        eng = complex(getattr(tr, formula.result)[0])
+    except SingularParameterError:  # the chain parameters do not exist at this point
+        eng = complex("nan")
+    eng_ok = math.isfinite(eng.real) and math.isfinite(eng.imag)
+    rel = (abs(val - eng) / abs(eng) if val is not None and eng_ok and eng != 0 else
+           (0.0 if val is None and not eng_ok else None))
+    return EngineCheck(val, eng if eng_ok else None, rel, {k: v for k, v in ev.items() if k in used})

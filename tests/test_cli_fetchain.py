@@ -163,7 +163,7 @@ def test_connect_warns_about_the_port_condition(run):
 def test_formula_value_equals_the_engine(run_json, tmp_path):
     m = _nmos_file(tmp_path)
     d = run_json("formula", m, "--config", "cd", "--result", "zout", "--rs", "1k", "--freq", "300MHz")
-    assert d["rel_diff"] < 1e-9 and "g_mb" in d["expression"] and d["latex"]
+    assert d["rel_diff"] < 1e-9 and "gmb" in d["expression"] and d["latex"]
     assert cx(d["value"]) == pytest.approx(cx(d["engine"]), rel=1e-9)
     q = _bjt_file(tmp_path)
     d = run_json("formula", q, "-c", "ce", "-r", "avs", "--rs", "600", "--rl", "3.3k", "--low-frequency")

@@ -9,7 +9,7 @@ import pytest
 
 import devmodels as dm
 from devmodels.analysis import terminate
-from devmodels.fet import FetModel, check_device_config
+from devmodels.fet import FetModel
 from devmodels.fetbias import JfetBias, MosfetBias
 
 
@@ -188,9 +188,10 @@ def test_fet_stage_conversions_against_scikit_rf():
 
 def test_configuration_family_is_checked():
     m = FetModel.from_bias(_mos())
-    with pytest.raises(dm.InputError, match="config: 'ce' is a bipolar configuration"):
-        dm.Stage(m, "ce").two_port([1e3])
+    with pytest.raises(dm.InputError, match="config: 'ce' is not a configuration of a fet device; use cs, cg, cd"):
+        dm.Stage(m, "ce")
     h = dm.HybridPi.from_bias(dm.BipolarBias(ic=1e-3, vce=5, beta=100))
-    with pytest.raises(dm.InputError, match="config: 'cs' is a FET configuration"):
-        check_device_config(h, "cs")
-    assert check_device_config(m, "cd") == "cd"
+    with pytest.raises(dm.InputError, match="config: 'cs' is not a configuration of a bipolar device"):
+        dm.Stage(h, "cs")
+    assert dm.Stage(m, "cd").config == "cd"
+    assert dm.Stage(m).config == "cs" and dm.Stage(h).config == "ce"  # the default: the first

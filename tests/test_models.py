@@ -8,7 +8,6 @@ import numpy as np
 import pytest
 
 import devmodels as dm
-from devmodels.indefinite import device_indefinite
 
 
 def test_thermal_voltage_at_300K():
@@ -90,7 +89,7 @@ def test_hybrid_pi_and_t_model_terminal_admittances_agree(extras):
     t = dm.TModel.from_bias(b)
     f = np.logspace(0, 10.5, 200)
     for rdeg, rfb in ((0.0, None), (33.0, 22e3)):
-        a = device_indefinite(hp, f, rdeg=rdeg, rfb=rfb)
-        c = device_indefinite(t, f, rdeg=rdeg, rfb=rfb)
+        a = dm.Stage(hp, "ce", rdeg, rfb).indefinite(f)
+        c = dm.Stage(t, "ce", rdeg, rfb).indefinite(f)
         scale = np.abs(a).max(axis=(1, 2))[:, None, None]
         assert np.max(np.abs(a - c) / scale) < 1e-12

@@ -11,7 +11,8 @@ import devmodels as dm
 from devmodels.analysis import terminate
 from devmodels.exceptions import InputError
 from devmodels.dcbias import BiasNetwork, operating_point
-from devmodels.spread import SpreadRanges, SpreadSetup, evaluate, run_spread, stage_y_arrays
+from devmodels.configs import config_y
+from devmodels.spread import SpreadRanges, SpreadSetup, evaluate, run_spread
 
 NET = BiasNetwork("divider", 12.0, rc=2.2e3, re=1e3, r1=47e3, r2=10e3)
 FULL = dict(va=80.0, ft=300e6, cmu=2e-12, rb=60.0, rcx=4.0, rex=1.5, rmu=8e6)
@@ -20,17 +21,19 @@ FULL = dict(va=80.0, ft=300e6, cmu=2e-12, rb=60.0, rcx=4.0, rex=1.5, rmu=8e6)
 @pytest.mark.parametrize("config", ["ce", "cb", "cc"])
 @pytest.mark.parametrize("rdeg, rfb", [(0.0, None), (150.0, None), (0.0, 30e3), (220.0, 47e3)])
 def test_vectorised_y_matches_the_scalar_pipeline(config, rdeg, rfb):
-    # Against devmodels' own scalar pipeline (Stage -> device_indefinite), which the core
-    # tests check against scikit-rf and hand formulas.
+    # A stage whose element values are arrays of samples (as spread builds it) against the
+    # same stage built sample by sample, which the core tests check against scikit-rf and
+    # hand formulas.
     rng = np.random.default_rng(5)
     ic = rng.uniform(0.2e-3, 5e-3, 4)
     beta = rng.uniform(50, 400, 4)
     models = [dm.HybridPi.from_bias(dm.BipolarBias(ic=i, vce=5.0, beta=b, **FULL)) for i, b in zip(ic, beta)]
     f = 20e6
-    y = stage_y_arrays(config, f, gm=np.array([m.gm for m in models]), r_pi=np.array([m.r_pi for m in models]),
-                       go=np.array([1 / m.ro for m in models]), c_pi=np.array([m.c_pi for m in models]),
-                       c_mu=2e-12, g_mu=1 / 8e6, rb=60.0, rcx=4.0, rex=1.5 + rdeg,
-                       g_fb=0.0 if rfb is None else 1 / rfb)
+    arrays = dm.HybridPi(gm=np.array([m.gm for m in models]), r_pi=np.array([m.r_pi for m in models]),
+                         ro=np.array([m.ro for m in models]), c_pi=np.array([m.c_pi for m in models]),
+                         c_mu=2e-12, r_mu=8e6, rb=60.0, rcx=4.0, rex=1.5)
+    stage = dm.Stage(arrays, config, rdeg=np.full(4, rdeg), rfb=None if rfb is None else np.full(4, rfb))
+    y = config_y(stage.indefinite_block(2 * np.pi * f, 4), config)
     for k, m in enumerate(models):
         ref = dm.Stage(m, config, rdeg, rfb).two_port([f]).data[0]
         np.testing.assert_allclose(y[k], ref, rtol=1e-10, atol=1e-15)

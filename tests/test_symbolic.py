@@ -92,7 +92,7 @@ def _zero(expr):
 
 
 def test_low_frequency_forms_match_textbooks():
-    g_m, r_pi, r_o, r_b, R_L, R_S, g_mb = sp.symbols("g_m r_pi r_o r_b R_L R_S g_mb", positive=True)
+    g_m, r_pi, r_o, r_b, R_L, R_S, g_mb = sp.symbols("gm r_pi ro rb R_L R_S gmb", positive=True)
     par = r_o * R_L / (r_o + R_L)
     # CE: av = -gm (r_pi/(rb + r_pi)) (ro || RL) (Gray, Hurst, Lewis and Meyer, ch. 7; from memory).
     ce = derive("ce", "av", low_frequency=True).expr
@@ -114,16 +114,16 @@ def test_high_frequency_cs_input_admittance():
     # CS input admittance with capacitances and a load R_L, in the Miller form
     # Yin = s Cgs + s Cgd (1 - av(s)) (Miller, 1920; any analog text, from memory).
     s = sp.Symbol("s")
-    zin = derive("cs", "zin", {"g_m", "r_o", "C_gs", "C_gd"}).expr
-    av = derive("cs", "av", {"g_m", "r_o", "C_gs", "C_gd"}).expr
-    C_gs, C_gd = sp.Symbol("C_gs", positive=True), sp.Symbol("C_gd", positive=True)
+    zin = derive("cs", "zin", {"gm", "ro", "cgs", "cgd"}).expr
+    av = derive("cs", "av", {"gm", "ro", "cgs", "cgd"}).expr
+    C_gs, C_gd = sp.Symbol("cgs", positive=True), sp.Symbol("cgd", positive=True)
     assert _zero(1 / zin - (s * C_gs + s * C_gd * (1 - av)))
 
 
 def test_nonexistent_result_is_none():
     # A FET gate with no capacitance draws no current: the input impedance is open.
-    f = derive("cs", "zin", {"g_m", "r_o"})
-    assert f.expr is None and f.value({"g_m": 1e-3, "r_o": 1e4}) is None and f.text() == "open/unbounded"
+    f = derive("cs", "zin", {"gm", "ro"})
+    assert f.expr is None and f.value({"gm": 1e-3, "ro": 1e4}) is None and f.text() == "open/unbounded"
 
 
 def test_latex_and_errors():
@@ -131,9 +131,9 @@ def test_latex_and_errors():
     assert "g_{m}" in f.latex() and "r_{\\pi}" in f.latex()
     with pytest.raises(dm.InputError, match="result: unknown"):
         derive("ce", "gain")
-    with pytest.raises(dm.InputError, match="elements: C_gs not in the bipolar model"):
-        derive("ce", "av", {"g_m", "C_gs"})
+    with pytest.raises(dm.InputError, match="elements: cgs not in the bipolar model"):
+        derive("ce", "av", {"gm", "cgs"})
     with pytest.raises(dm.InputError, match="config"):
         derive("cx", "av")
     with pytest.raises(dm.InputError, match="values: missing"):
-        derive("ce", "av").value({"g_m": 1.0})
+        derive("ce", "av").value({"gm": 1.0})

@@ -1,0 +1,313 @@
+r"""One description of a circuit: elements between named nodes, and the numeric engine.
+
+A device model, a stage and (later) a bias network are all written as a :class:`Netlist`:
+a tuple of :class:`Element` objects, each a resistor, a capacitor or a voltage-controlled
+current source between named nodes.  Every analysis reads that one description:
+
+- :func:`reduce_to` (numpy) stamps the elements into a nodal admittance matrix over all
+  nodes, with no reference node (the *indefinite* matrix, whose rows and columns sum to
+  zero), and removes every node that is not kept by Kron reduction.  The element values
+  may be scalars or arrays of shape (N,), and the angular frequency a scalar or an array
+  of shape (N,): the N points are frequencies of a sweep or samples of a spread.
+- :mod:`devmodels.symbolic` (sympy) stamps the same elements with their names as symbols.
+
+Kron reduction (Kron, *Tensor Analysis of Networks*, 1939; Vlach and Singhal, *Computer
+Methods for Circuit Analysis and Design*, ch. 2):
+
+.. math:: Y'_{ij} = Y_{ij} - Y_{ik} Y_{kj} / Y_{kk}
+
+one node k at a time.  For a diagonal entry the update cancels when node i hangs on node
+k through a small series resistance (both terms are about 1/R): the real part of the
+input admittance of a FET behind a 1-ohm gate resistance at 1 kHz would lose most of its
+digits.  Because every row and every column of an indefinite matrix sums to zero, a new
+diagonal entry is also minus the sum of the other entries of its row, and minus the sum of
+the other entries of its column.  All three are computed and the one with the smallest
+terms (least cancellation) is kept, point by point.  The row sum is free of cancellation
+at a node that is no controlled source's output; the column sum at a node that controls no
+source.
+
+Element names are the keys used everywhere else (JSON output, formulas): ``gm``, ``r_pi``,
+``ro``, ``c_pi``, ``c_mu``, ``rb``, ... and ``rdeg``, ``rfb`` for the stage's resistors.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Iterable, Literal, Sequence
+
+import numpy as np
+
+from .exceptions import InputError
+
+__all__ = ["Element", "Netlist", "ElementKind", "resistor", "capacitor", "vccs", "series_node",
+           "reduce_to", "stamp", "kron_reduce"]
+
+ElementKind = Literal["resistor", "capacitor", "vccs"]
+
+
+@dataclass(frozen=True, slots=True)
+class Element:
+    """One element of a netlist.
+
+    Parameters
+    ----------
+    kind : {'resistor', 'capacitor', 'vccs'}
+        Resistor (value in ohm), capacitor (F) or voltage-controlled current source (S).
+    name : str
+        The element's key: the symbol of the sympy back end and the key of JSON output.
+    nodes : tuple of str
+        ``(a, b)`` for a resistor or capacitor; ``(out_from, out_to, ctl_plus, ctl_minus)``
+        for a source whose current ``value * (V[ctl_plus] - V[ctl_minus])`` leaves node
+        ``out_from`` through the source and enters ``out_to``.
+    value : float or ndarray (N,)
+        Value in SI units; arrays hold one value per point.
+    """
+
+    kind: ElementKind
+    name: str
+    nodes: tuple[str, ...]
+    value: object
+
+    def __post_init__(self) -> None:
+        want = 4 if self.kind == "vccs" else 2
+        if self.kind not in ("resistor", "capacitor", "vccs"):
+            raise InputError(f"kind: unknown element kind {self.kind!r}")
+        if len(self.nodes) != want:
+            raise InputError(f"nodes: a {self.kind} takes {want} nodes, got {len(self.nodes)}")
+
+    def admittance(self, jw):
+        """The admittance (S) this element stamps; ``jw`` is j times the angular frequency."""
+        if self.kind == "resistor":
+            return 1.0 / np.asarray(self.value) if np.ndim(self.value) else 1.0 / self.value
+        if self.kind == "capacitor":
+            return jw * self.value
+        return self.value
+
+
+def resistor(name: str, a: str, b: str, value) -> Element:
+    """A resistor of ``value`` ohm between nodes a and b."""
+    return Element("resistor", name, (a, b), value)
+
+
+def capacitor(name: str, a: str, b: str, value) -> Element:
+    """A capacitor of ``value`` F between nodes a and b."""
+    return Element("capacitor", name, (a, b), value)
+
+
+def vccs(name: str, out_from: str, out_to: str, ctl_plus: str, ctl_minus: str, value) -> Element:
+    """A source of ``value * (V[ctl_plus] - V[ctl_minus])`` A (``value`` in S) from out_from to out_to."""
+    return Element("vccs", name, (out_from, out_to, ctl_plus, ctl_minus), value)
+
+
+def _present(value, zero_means_absent: bool = True) -> bool:
+    """True when an optional element is there for every point, False when for none."""
+    v = np.asarray(value, dtype=float)
+    there = np.isfinite(v) & (v != 0) if zero_means_absent else np.isfinite(v)
+    if there.all():
+        return True
+    if not there.any():
+        return False
+    raise InputError("element values: an optional element must be present (finite, nonzero) at every "
+                     "point or at none")
+
+
+def series_node(name: str, outer: str, inner: str, value) -> tuple[list[Element], str]:
+    """A series resistance from terminal ``outer`` to internal node ``inner``.
+
+    Returns the elements and the node the rest of the circuit connects to: ``inner`` with a
+    resistor of ``value`` ohm, or ``outer`` itself when ``value`` is 0 (no resistor).
+    """
+    if _present(value):
+        return [resistor(name, outer, inner, value)], inner
+    return [], outer
+
+
+def optional(element: Element) -> list[Element]:
+    """``[element]``, or ``[]`` when it is absent: a zero capacitance or source, an infinite resistance."""
+    if element.kind == "resistor":
+        v = np.asarray(element.value, dtype=float)
+        there = np.isfinite(v)
+        if there.all():
+            return [element]
+        if not there.any():
+            return []
+        raise InputError(f"{element.name}: must be finite at every point or infinite (absent) at every point")
+    return [element] if _present(element.value) else []
+
+
+@dataclass(frozen=True, slots=True)
+class Netlist:
+    """Elements between named nodes.
+
+    Parameters
+    ----------
+    elements : tuple of Element
+        The elements.
+    """
+
+    elements: tuple[Element, ...]
+
+    @property
+    def nodes(self) -> tuple[str, ...]:
+        """Every node, in order of first appearance."""
+        seen: dict[str, None] = {}
+        for el in self.elements:
+            for n in el.nodes:
+                seen.setdefault(n, None)
+        return tuple(seen)
+
+    def __add__(self, other: "Netlist") -> "Netlist":
+        return Netlist(self.elements + tuple(other.elements))
+
+    def renamed(self, mapping: dict[str, str]) -> "Netlist":
+        """The same elements with nodes renamed (two names mapped to one join those nodes)."""
+        return Netlist(tuple(Element(e.kind, e.name, tuple(mapping.get(n, n) for n in e.nodes), e.value)
+                             for e in self.elements))
+
+    def touches(self, nodes: Iterable[str]) -> bool:
+        """True when any element has a node among ``nodes``."""
+        want = set(nodes)
+        return any(n in want for e in self.elements for n in e.nodes)
+
+    def values(self) -> dict[str, object]:
+        """Element name -> value (SI units)."""
+        return {e.name: e.value for e in self.elements}
+
+
+def stamp(netlist: Netlist, order: Sequence[str], omega, n: int) -> np.ndarray:
+    """Indefinite nodal admittance matrix of ``netlist``, nodes in ``order``, shape (m, m, n).
+
+    The point axis is last (each matrix entry is one contiguous array of the n points),
+    which keeps the small-matrix arithmetic of the reduction fast; :func:`reduce_to`
+    returns the usual (n, k, k).
+
+    Parameters
+    ----------
+    netlist : Netlist
+        The circuit.
+    order : sequence of str
+        Every node of the netlist, in the order of the matrix.
+    omega : float or ndarray (n,)
+        Angular frequency in rad/s.
+    n : int
+        Number of points.
+    """
+    idx = {name: i for i, name in enumerate(order)}
+    m = len(order)
+    Y = np.zeros((m, m, n), dtype=complex)
+    jw = 1j * np.asarray(omega)
+    for el in netlist.elements:
+        y = el.admittance(jw)
+        if el.kind == "vccs":
+            a, b, p, q = (idx[x] for x in el.nodes)
+            Y[a, p] += y
+            Y[a, q] -= y
+            Y[b, p] -= y
+            Y[b, q] += y
+        else:
+            a, b = idx[el.nodes[0]], idx[el.nodes[1]]
+            if a == b:
+                continue
+            Y[a, a] += y
+            Y[b, b] += y
+            Y[a, b] -= y
+            Y[b, a] -= y
+    return Y
+
+
+def _l1(x: np.ndarray) -> np.ndarray:
+    """|re| + |im|: a cheap size of complex numbers (within a factor sqrt 2 of abs)."""
+    return np.abs(x.real) + np.abs(x.imag)
+
+
+def kron_reduce(Y: np.ndarray, keep: int, names: Sequence[str] = ()) -> np.ndarray:
+    """Remove the nodes after the first ``keep`` from an indefinite matrix (m, m, n).
+
+    Nodes are removed last to first; each new diagonal entry is the best of three
+    equivalent forms (module docstring).  Returns shape (keep, keep, n).
+
+    Raises
+    ------
+    InputError
+        A node to remove has no admittance to anything (it floats) at some point.
+    """
+    m = Y.shape[0]
+    for k in range(m - 1, keep - 1, -1):
+        pivot = Y[k, k]
+        if np.any(pivot == 0):
+            who = names[k] if k < len(names) else str(k)
+            raise InputError(f"netlist: node {who!r} is connected to nothing at some point "
+                             "(it floats); the circuit cannot be reduced")
+        col = Y[:k, k] / pivot                                   # Y_ik / Y_kk, shape (k, n)
+        row = Y[k, :k]                                           # Y_kj
+        idx = np.arange(k)
+        diag_old = Y[idx, idx].copy()
+        corr = col * row                                         # Y_ik Y_ki / Y_kk
+        kept = Y[:k, :k]
+        kept -= col[:, None, :] * row[None, :, :]
+        # Where the update of a diagonal entry may cancel (the correction is at least half the
+        # old entry), compare it with minus the row sum and minus the column sum and keep the
+        # form with the smallest terms.  A loop over the few nodes concerned, not over points.
+        size_direct = _l1(diag_old) + _l1(corr)
+        risky = _l1(corr) >= 0.5 * _l1(diag_old)
+        for i in np.flatnonzero(risky.any(axis=1)):
+            others = idx[idx != i]
+            off_row, off_col = kept[i, others], kept[others, i]
+            by_row, size_row = -off_row.sum(axis=0), _l1(off_row).sum(axis=0)
+            by_col, size_col = -off_col.sum(axis=0), _l1(off_col).sum(axis=0)
+            best = np.where(size_row <= size_direct[i], by_row, kept[i, i])
+            kept[i, i] = np.where(size_col < np.minimum(size_row, size_direct[i]), by_col, best)
+        Y = kept
+    return Y
+
+
+def reduce_to(netlist: Netlist, keep: Sequence[str], omega, n: int) -> np.ndarray:
+    """The indefinite matrix (n, len(keep), len(keep)) seen at the nodes ``keep``.
+
+    Parameters
+    ----------
+    netlist : Netlist
+        The circuit.
+    keep : sequence of str
+        The nodes kept, in the order of the result; every other node is removed.
+    omega : float or ndarray (n,)
+        Angular frequency in rad/s.
+    n : int
+        Number of points.
+    """
+    nodes = netlist.nodes
+    missing = [k for k in keep if k not in nodes]
+    if missing:
+        raise InputError(f"netlist: no element is connected to node {missing[0]!r}")
+    order = list(keep) + [x for x in nodes if x not in keep]
+    Y = kron_reduce(stamp(netlist, order, omega, n), len(keep), order)
+    return np.ascontiguousarray(np.moveaxis(Y, 2, 0))
+
+
+def check_freq(freq) -> np.ndarray:
+    """Frequencies as a 1-D float array in Hz, refusing negative or non-finite ones."""
+    f = np.atleast_1d(np.asarray(freq, dtype=float))
+    if f.ndim != 1:
+        raise InputError(f"freq: expected a 1-D list of frequencies in Hz, got shape {f.shape}")
+    if f.size == 0:
+        raise InputError("freq: expected at least one frequency in Hz")
+    if not np.all(np.isfinite(f)) or np.any(f < 0):
+        bad = f[~(np.isfinite(f) & (f >= 0))][0]
+        raise InputError(f"freq: expected frequencies >= 0 Hz, got {bad:g}")
+    return f
+
+
+#: Frequency points per block when reducing a sweep: small enough for the temporaries to stay
+#: in cache (measured on the old engine: 4096 points 3.5x faster than 65536 on 1e6 points).
+FREQ_BLOCK = 4096
+
+
+def reduce_over_freq(netlist: Netlist, keep: Sequence[str], freq) -> np.ndarray:
+    """:func:`reduce_to` over a frequency sweep (Hz), block by block; shape (F, k, k)."""
+    f = check_freq(freq)
+    out = np.empty((f.size, len(keep), len(keep)), dtype=complex)
+    for start in range(0, f.size, FREQ_BLOCK):
+        omega = 2 * math.pi * f[start:start + FREQ_BLOCK]
+        out[start:start + omega.size] = reduce_to(netlist, keep, omega, omega.size)
+    return out
