@@ -123,6 +123,7 @@ class FetModel:
 
     @property
     def is_jfet(self) -> bool:
+        """True for a JFET (njfet, pjfet)."""
         return self.device.endswith("jfet")
 
     @property

@@ -145,7 +145,15 @@ def series_element(z, freq=None, z0=50.0) -> TwoPort:
     """A two-port made of one impedance ``z`` (ohm) between the upper terminals of the ports.
 
     Y = [[1/z, -1/z], [-1/z, 1/z]]: a feedback resistor from output to input (shunt-shunt).
-    ``z`` may be a scalar or an array of shape (F,).
+
+    Parameters
+    ----------
+    z : complex or ndarray (F,)
+        The impedance in ohm.
+    freq : array_like or None
+        Frequencies in Hz (None: frequency-independent, one point).
+    z0 : float or (float, float)
+        Reference resistance(s) in ohm.
     """
     z = _element(z, freq, "z")
     y = 1.0 / z
@@ -157,6 +165,11 @@ def shunt_element(z, freq=None, z0=50.0) -> TwoPort:
     """A two-port made of one impedance ``z`` (ohm) from the joined upper terminals to common.
 
     Z = [[z, z], [z, z]]: an emitter or source resistor (series-series).
+
+    Parameters
+    ----------
+    z, freq, z0 :
+        As in :func:`series_element`.
     """
     z = _element(z, freq, "z")
     data = np.stack([np.stack([z, z], -1), np.stack([z, z], -1)], -2)

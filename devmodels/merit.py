@@ -191,7 +191,19 @@ def _parallel(a: float, b: float) -> float:
 
 def bandwidth(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1e3,
               points: int = GRID_POINTS) -> tuple[float | None, complex]:
-    """-3 dB frequency (Hz, or None) of the terminated |avs| of ``stage``, and avs at 0 Hz."""
+    """-3 dB frequency (Hz, or None) of the terminated |avs| of ``stage``, and avs at 0 Hz.
+
+    Parameters
+    ----------
+    stage : Stage
+        The stage.
+    f_start, f_stop : float
+        Search range in Hz.
+    zs, zl : complex
+        Source and load impedances in ohm (``math.inf``: open load).
+    points : int
+        Points of the coarse logarithmic grid.
+    """
 
     def avs(f):
         return terminate_arrays(stage.two_port(f, "abcd").data, zs, zl)["avs"]

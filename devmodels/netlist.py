@@ -86,17 +86,50 @@ class Element:
 
 
 def resistor(name: str, a: str, b: str, value) -> Element:
-    """A resistor of ``value`` ohm between nodes a and b."""
+    """A resistor between two nodes.
+
+    Parameters
+    ----------
+    name : str
+        The element's key.
+    a, b : str
+        The nodes.
+    value : float or ndarray
+        Resistance in ohm.
+    """
     return Element("resistor", name, (a, b), value)
 
 
 def capacitor(name: str, a: str, b: str, value) -> Element:
-    """A capacitor of ``value`` F between nodes a and b."""
+    """A capacitor between two nodes.
+
+    Parameters
+    ----------
+    name : str
+        The element's key.
+    a, b : str
+        The nodes.
+    value : float or ndarray
+        Capacitance in F.
+    """
     return Element("capacitor", name, (a, b), value)
 
 
 def vccs(name: str, out_from: str, out_to: str, ctl_plus: str, ctl_minus: str, value) -> Element:
-    """A source of ``value * (V[ctl_plus] - V[ctl_minus])`` A (``value`` in S) from out_from to out_to."""
+    """A voltage-controlled current source.
+
+    Parameters
+    ----------
+    name : str
+        The element's key.
+    out_from, out_to : str
+        The current ``value * (V[ctl_plus] - V[ctl_minus])`` leaves ``out_from`` through
+        the source and enters ``out_to``.
+    ctl_plus, ctl_minus : str
+        The controlling nodes.
+    value : float or ndarray
+        Transconductance in S.
+    """
     return Element("vccs", name, (out_from, out_to, ctl_plus, ctl_minus), value)
 
 
@@ -115,8 +148,20 @@ def _present(value, zero_means_absent: bool = True) -> bool:
 def series_node(name: str, outer: str, inner: str, value) -> tuple[list[Element], str]:
     """A series resistance from terminal ``outer`` to internal node ``inner``.
 
-    Returns the elements and the node the rest of the circuit connects to: ``inner`` with a
-    resistor of ``value`` ohm, or ``outer`` itself when ``value`` is 0 (no resistor).
+    Parameters
+    ----------
+    name : str
+        The resistor's key.
+    outer, inner : str
+        The terminal and the internal node.
+    value : float or ndarray
+        Resistance in ohm; 0 for none (at every point, or at none).
+
+    Returns
+    -------
+    (list of Element, str)
+        The elements and the node the rest of the circuit connects to: ``inner`` with a
+        resistor, or ``outer`` itself when ``value`` is 0 (no resistor).
     """
     if _present(value):
         return [resistor(name, outer, inner, value)], inner
@@ -124,7 +169,13 @@ def series_node(name: str, outer: str, inner: str, value) -> tuple[list[Element]
 
 
 def optional(element: Element) -> list[Element]:
-    """``[element]``, or ``[]`` when it is absent: a zero capacitance or source, an infinite resistance."""
+    """``[element]``, or ``[]`` when it is absent: a zero capacitance or source, an infinite resistance.
+
+    Parameters
+    ----------
+    element : Element
+        The element (values may be arrays: present at every point or at none).
+    """
     if element.kind == "resistor":
         v = np.asarray(element.value, dtype=float)
         there = np.isfinite(v)
@@ -161,12 +212,18 @@ class Netlist:
         return Netlist(self.elements + tuple(other.elements))
 
     def renamed(self, mapping: dict[str, str]) -> "Netlist":
-        """The same elements with nodes renamed (two names mapped to one join those nodes)."""
+        """The same elements with nodes renamed.
+
+        Parameters
+        ----------
+        mapping : dict of str -> str
+            Old node name -> new node name (two names mapped to one join those nodes).
+        """
         return Netlist(tuple(Element(e.kind, e.name, tuple(mapping.get(n, n) for n in e.nodes), e.value)
                              for e in self.elements))
 
     def touches(self, nodes: Iterable[str]) -> bool:
-        """True when any element has a node among ``nodes``."""
+        """True when any element has a node among ``nodes`` (an iterable of node names)."""
         want = set(nodes)
         return any(n in want for e in self.elements for n in e.nodes)
 
@@ -222,10 +279,23 @@ def _l1(x: np.ndarray) -> np.ndarray:
 
 
 def kron_reduce(Y: np.ndarray, keep: int, names: Sequence[str] = ()) -> np.ndarray:
-    """Remove the nodes after the first ``keep`` from an indefinite matrix (m, m, n).
+    """Remove the nodes after the first ``keep`` from an indefinite matrix.
 
     Nodes are removed last to first; each new diagonal entry is the best of three
-    equivalent forms (module docstring).  Returns shape (keep, keep, n).
+    equivalent forms (module docstring).
+
+    Parameters
+    ----------
+    Y : ndarray, complex, shape (m, m, n)
+        Indefinite admittance matrix in S, point axis last; it is overwritten.
+    keep : int
+        Number of leading nodes kept.
+    names : sequence of str
+        Node names, for the error message.
+
+    Returns
+    -------
+    ndarray, complex, shape (keep, keep, n)
 
     Raises
     ------
@@ -286,7 +356,13 @@ def reduce_to(netlist: Netlist, keep: Sequence[str], omega, n: int) -> np.ndarra
 
 
 def check_freq(freq) -> np.ndarray:
-    """Frequencies as a 1-D float array in Hz, refusing negative or non-finite ones."""
+    """Frequencies as a 1-D float array in Hz, refusing negative or non-finite ones.
+
+    Parameters
+    ----------
+    freq : float or array_like
+        Frequencies in Hz.
+    """
     f = np.atleast_1d(np.asarray(freq, dtype=float))
     if f.ndim != 1:
         raise InputError(f"freq: expected a 1-D list of frequencies in Hz, got shape {f.shape}")
@@ -304,7 +380,21 @@ FREQ_BLOCK = 4096
 
 
 def reduce_over_freq(netlist: Netlist, keep: Sequence[str], freq) -> np.ndarray:
-    """:func:`reduce_to` over a frequency sweep (Hz), block by block; shape (F, k, k)."""
+    """:func:`reduce_to` over a frequency sweep, block by block.
+
+    Parameters
+    ----------
+    netlist : Netlist
+        The circuit.
+    keep : sequence of str
+        The nodes kept, in the order of the result.
+    freq : array_like
+        Frequencies in Hz, shape (F,).
+
+    Returns
+    -------
+    ndarray, complex, shape (F, len(keep), len(keep))
+    """
     f = check_freq(freq)
     out = np.empty((f.size, len(keep), len(keep)), dtype=complex)
     for start in range(0, f.size, FREQ_BLOCK):

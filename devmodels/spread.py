@@ -235,6 +235,10 @@ class SpreadResult:
         (``None`` where they do not exist).
     regions : dict of str -> int
         How many samples fell in each region.
+    setup : SpreadSetup
+        What was held fixed.
+    ranges : SpreadRanges
+        What was sampled.
     warnings : tuple of str
         Ratings exceeded by any sample, and samples without a small-signal point.
     """

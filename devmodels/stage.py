@@ -36,7 +36,8 @@ class DeviceModel(Protocol):
     tied_to_common: tuple[str, ...]
     element_names: tuple[str, ...]
 
-    def netlist(self) -> Netlist: ...
+    def netlist(self) -> Netlist:
+        """The model's elements between its terminals, internal nodes and tied nodes."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -109,18 +110,39 @@ class Stage:
         return not self.model.netlist().touches(self.model.tied_to_common)
 
     def indefinite_block(self, omega, n: int) -> np.ndarray:
-        """Indefinite matrix (n, 3, 3) at angular frequency ``omega`` (rad/s; scalar or (n,)).
+        """Indefinite matrix (n, 3, 3) at one or more angular frequencies.
 
-        Element values may be arrays of shape (n,) (the samples of a spread).
+        Parameters
+        ----------
+        omega : float or ndarray (n,)
+            Angular frequency in rad/s.
+        n : int
+            Number of points; element values may be arrays of shape (n,) (a spread's samples).
         """
         return reduce_to(self.netlist(), self.terminals, omega, n)
 
     def indefinite(self, freq) -> np.ndarray:
-        """Indefinite admittance matrix (F, 3, 3) in S, node order ``terminals``."""
+        """Indefinite admittance matrix (F, 3, 3) in S, node order ``terminals``.
+
+        Parameters
+        ----------
+        freq : array_like
+            Frequencies in Hz.
+        """
         return reduce_over_freq(self.netlist(), self.terminals, freq)
 
     def two_port(self, freq, kind: str = "y", z0=50.0) -> TwoPort:
-        """Parameters of ``kind`` at frequencies ``freq`` (Hz)."""
+        """The stage's two-port parameters.
+
+        Parameters
+        ----------
+        freq : array_like
+            Frequencies in Hz.
+        kind : {'y', 'z', 'h', 'g', 'abcd', 's'}
+            Parameter kind.
+        z0 : float or (float, float)
+            Reference resistance(s) of S in ohm.
+        """
         f = check_freq(freq)
         y = config_y(self.indefinite(f), self.config)
         return TwoPort(f, y, "y", z0, self.config).to(kind)
@@ -134,6 +156,14 @@ def _first_bad(v: np.ndarray, ok) -> str:
 
 def stage_two_port(model, config: str, freq, kind: str = "y", z0=50.0, *, rdeg: float = 0.0,
                    rfb: float | None = None) -> TwoPort:
-    """Shorthand for ``Stage(model, config, rdeg, rfb).two_port(freq, kind, z0)``."""
+    """Shorthand for ``Stage(model, config, rdeg, rfb).two_port(freq, kind, z0)``.
+
+    Parameters
+    ----------
+    model, config, rdeg, rfb :
+        As in :class:`Stage`.
+    freq, kind, z0 :
+        As in :meth:`Stage.two_port`.
+    """
     return Stage(model, config, rdeg, rfb).two_port(freq, kind, z0)
 

@@ -68,6 +68,7 @@ class CrossCheck:
 
     @property
     def ok(self) -> bool:
+        """True when at least one conversion was checked and the worst deviation is within tolerance."""
         return self.max_rel_error <= self.tolerance and self.checked > 0
 
 
