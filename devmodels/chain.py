@@ -14,14 +14,23 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .exceptions import InputError, SingularParameterError
+from .exceptions import InputError, InputTypeError, SingularParameterError
 from .twoport import TwoPort
 
 __all__ = ["cascade", "ChainResult", "analyse_chain", "same_freq"]
 
 
 def same_freq(parts: list[TwoPort]) -> None:
-    """Refuse networks given at different frequencies (``parts``: the two-ports, in order)."""
+    """Refuse anything but two-ports, and two-ports given at different frequencies.
+
+    Parameters
+    ----------
+    parts : list of TwoPort
+        The networks, in order.
+    """
+    for i, p in enumerate(parts, start=1):
+        if not isinstance(p, TwoPort):
+            raise InputTypeError(f"network {i}: expected a TwoPort, got {type(p).__name__}")
     f0 = parts[0].freq
     for i, p in enumerate(parts[1:], start=2):
         if (f0 is None) != (p.freq is None) or (f0 is not None and (

@@ -14,6 +14,7 @@ __all__ = [
     "SingularParameterError",
     "FileFormatError",
     "OutputError",
+    "InputTypeError",
 ]
 
 
@@ -41,4 +42,12 @@ class OutputError(DevModelsError):
     """A result cannot be written (a directory, no permission, a full disk, a name too long).
 
     The message starts with the name of the option or parameter that named the file.
+    """
+
+
+class InputTypeError(InputError, TypeError):
+    """A value of the wrong type (a string or a boolean where a number or a two-port is needed).
+
+    Both an :class:`InputError` (so the command line reports it as bad input) and a
+    :class:`TypeError` (so callers can catch it as the built-in).
     """

@@ -22,6 +22,7 @@ import numpy as np
 from .configs import CONFIG_TERMINALS, config_y
 from .exceptions import InputError
 from .netlist import Netlist, check_freq, reduce_over_freq, reduce_to, resistor
+from .stagenetwork import GROUND, PORT_IN, PORT_OUT, StageNetwork
 from .twoport import TwoPort
 
 __all__ = ["Stage", "DeviceModel", "stage_two_port"]
@@ -56,12 +57,16 @@ class Stage:
         External emitter (source) degeneration resistance in ohm (0: none).
     rfb : float, ndarray or None
         External collector-base (drain-gate) feedback resistance in ohm (None: none).
+    network : StageNetwork or None
+        The bias network and coupling and bypass capacitors as built
+        (:mod:`devmodels.stagenetwork`); None: the bare device with ``rdeg`` and ``rfb``.
     """
 
     model: DeviceModel
     config: str | None = None
     rdeg: object = 0.0
     rfb: object = None
+    network: StageNetwork | None = None
 
     def __post_init__(self) -> None:
         configs = getattr(self.model, "configs", None)
@@ -76,6 +81,8 @@ class Stage:
         rdeg = np.asarray(self.rdeg, dtype=float)
         if not np.all(np.isfinite(rdeg) & (rdeg >= 0)):
             raise InputError(f"rdeg: expected a resistance >= 0 ohm, got {_first_bad(rdeg, lambda v: v >= 0)}")
+        if self.network is not None and not isinstance(self.network, StageNetwork):
+            raise InputError(f"network: expected a StageNetwork, got {type(self.network).__name__}")
         if self.rfb is not None:
             rfb = np.asarray(self.rfb, dtype=float)
             if not np.all(np.isfinite(rfb) & (rfb > 0)):
@@ -84,8 +91,19 @@ class Stage:
 
     @property
     def terminals(self) -> tuple[str, str, str]:
-        """The device's terminal names, the node order of :meth:`indefinite`."""
-        return self.model.terminals
+        """The node order of :meth:`indefinite`.
+
+        Without a network: the device's terminals (b, c, e or g, d, s).  With one: the
+        input, output and ground nodes placed where the configuration's port-1, port-2 and
+        common terminals are, so that :func:`devmodels.configs.config_y` picks the stage's
+        two-port out of :meth:`indefinite` either way.
+        """
+        if self.network is None:
+            return self.model.terminals
+        nodes = ["", "", ""]
+        for where, node in zip(CONFIG_TERMINALS[self.config], (PORT_IN, PORT_OUT, GROUND)):
+            nodes[where] = node
+        return tuple(nodes)
 
     def netlist(self) -> Netlist:
         """The stage's netlist (module docstring)."""
@@ -96,18 +114,34 @@ class Stage:
         if np.any(np.asarray(self.rdeg) != 0):
             net = net.renamed({e: e + "_dev"})
             extra.append(resistor("rdeg", e + "_dev", e, self.rdeg))
-        # nodes tied to the common terminal (a FET's body) join it at the terminal, below rdeg
-        common = model.terminals[CONFIG_TERMINALS[self.config][2]]
+        # nodes tied to the common terminal (a FET's body) join it at the terminal, below rdeg;
+        # in a stage with its network, the common terminal is AC ground
+        common = model.terminals[CONFIG_TERMINALS[self.config][2]] if self.network is None else GROUND
         net = net.renamed({n: common for n in model.tied_to_common})
         if self.rfb is not None:
             extra.append(resistor("rfb", c, b, self.rfb))
-        return net + Netlist(tuple(extra))
+        net = net + Netlist(tuple(extra))
+        if self.network is not None:
+            index = model.configs.index(self.config)
+            outer, joins = self.network.netlist(model.terminals, index)
+            net = (net + outer).renamed(_closure(joins))
+        return net
+
+    def midband(self) -> "Stage":
+        """The stage at mid-band: every coupling and bypass capacitor shorted and the device's
+        capacitances left out (the reference of the low and high corners)."""
+        import dataclasses
+
+        caps = {e.name: 0.0 for e in self.model.netlist().elements if e.kind == "capacitor"}
+        model = dataclasses.replace(self.model, **caps) if caps else self.model
+        return Stage(model, self.config, self.rdeg, self.rfb,
+                     None if self.network is None else self.network.shorted())
 
     @property
     def same_indefinite_for_all_configs(self) -> bool:
         """True when the indefinite matrix does not depend on the configuration (nothing is
         tied to the common terminal, e.g. any bipolar model, or a FET without body elements)."""
-        return not self.model.netlist().touches(self.model.tied_to_common)
+        return self.network is None and not self.model.netlist().touches(self.model.tied_to_common)
 
     def indefinite_block(self, omega, n: int) -> np.ndarray:
         """Indefinite matrix (n, 3, 3) at one or more angular frequencies.
@@ -146,6 +180,18 @@ class Stage:
         f = check_freq(freq)
         y = config_y(self.indefinite(f), self.config)
         return TwoPort(f, y, "y", z0, self.config).to(kind)
+
+
+def _closure(joins: dict[str, str]) -> dict[str, str]:
+    """Follow chains of joins (a -> b, b -> gnd gives a -> gnd)."""
+    out = {}
+    for a in joins:
+        z, seen = joins[a], {a}
+        while z in joins and z not in seen:
+            seen.add(z)
+            z = joins[z]
+        out[a] = z
+    return out
 
 
 def _first_bad(v: np.ndarray, ok) -> str:

@@ -164,3 +164,16 @@ def test_errors(bjt):
     # an ideal series element has no Z parameters: series-series cannot add it
     with pytest.raises(dm.SingularParameterError, match="network 2: has no Z parameters"):
         connect(a, series_element(100.0, F), "series-series")
+
+
+def test_wrong_types_raise_the_package_errors():
+    # Library API: anything but a TwoPort is refused with the package's own error, which is
+    # both an InputError (ValueError) and a TypeError (never an AttributeError).
+    from devmodels.exceptions import InputTypeError
+
+    tp = dm.Stage(dm.HybridPi(gm=0.04, r_pi=2.5e3), "ce").two_port([1e3])
+    for call in (lambda: cascade(tp, "x"), lambda: connect(tp, 3.0, "shunt-shunt"),
+                 lambda: analyse_chain([tp, None])):
+        with pytest.raises(InputTypeError, match="expected a TwoPort") as info:
+            call()
+        assert isinstance(info.value, TypeError) and isinstance(info.value, dm.InputError)

@@ -1,0 +1,224 @@
+r"""The stage as it is built: the bias network and the coupling and bypass capacitors.
+
+A :class:`StageNetwork` adds to a stage's netlist the external elements a designer solders
+in, so that the AC analysis is the circuit that gets built.  The supply is AC ground (node
+``gnd``); port 1 is the input terminal ``in`` (the source side of the input coupling
+capacitor), port 2 the output terminal ``out`` (the load side of the output capacitor).
+Terminals are named by the device (b, c, e or g, d, s); below "base" means the first
+terminal, "collector" the second, "emitter" the third.
+
+========  ==========================  ==========================  =========================
+config    input                       output                      third terminal
+========  ==========================  ==========================  =========================
+ce / cs   base, through ``c_in``      collector, through          emitter: ``re`` to
+                                      ``c_out``                   ground, partly bypassed
+cb / cg   emitter, through ``c_in``   collector, through          base: ``c_base`` to
+          (``re`` to ground stays)    ``c_out``                   ground
+cc / cd   base, through ``c_in``      emitter, through            collector: ``rc`` to
+                                      ``c_out``                   ground (0: grounded)
+========  ==========================  ==========================  =========================
+
+Everywhere: the bias resistors at the base (``r1`` and ``r2`` of a divider, or ``rb`` from
+the supply, both to AC ground; a collector-feedback ``rb`` from collector to base), ``rc``
+from the collector to the supply.  In the common-emitter arrangement the emitter resistor
+``re`` is split into an unbypassed part ``re - re_bypassed`` in series with the bypassed part
+``re_bypassed`` that ``c_bypass`` shunts; in the other two the emitter is a port and ``re``
+stays whole.  A capacitor given as ``"short"`` is an ideal one (its nodes are joined); an absent
+coupling or base capacitor is ideal too; an absent ``c_bypass`` means no bypass (all of
+``re`` is in the AC circuit).  These are the textbook arrangements (Sedra and Smith,
+*Microelectronic Circuits*, the discrete-amplifier sections; from memory).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from .exceptions import InputError
+from .netlist import Element, Netlist, capacitor, resistor
+
+__all__ = ["StageNetwork", "SHORT", "GROUND", "PORT_IN", "PORT_OUT", "CAPACITORS"]
+
+#: The value that marks an ideal (shorted) capacitor.
+SHORT = "short"
+#: Node names of the AC ground (supply and ground) and of the two port terminals.
+GROUND, PORT_IN, PORT_OUT = "gnd", "in", "out"
+#: The capacitor keys of a stage network.
+CAPACITORS: tuple[str, ...] = ("c_in", "c_out", "c_bypass", "c_base")
+_BIAS_KINDS = ("divider", "fixed", "collector-feedback", "none")
+
+
+def _resistance(name: str, v, *, zero_ok: bool = True) -> float:
+    try:
+        x = float(v)
+    except (TypeError, ValueError):
+        raise InputError(f"{name}: expected a resistance in ohm, got {v!r}") from None
+    if isinstance(v, bool) or not math.isfinite(x) or x < 0 or (x == 0 and not zero_ok):
+        raise InputError(f"{name}: expected a resistance {'>=' if zero_ok else '>'} 0 ohm, got {v!r}")
+    return x
+
+
+def _capacitance(name: str, v):
+    if v is None or v == SHORT:
+        return v
+    try:
+        x = float(v)
+    except (TypeError, ValueError):
+        raise InputError(f"{name}: expected a capacitance in F or \"short\", got {v!r}") from None
+    if isinstance(v, bool) or not math.isfinite(x) or x <= 0:
+        raise InputError(f"{name}: expected a capacitance > 0 F (or \"short\"), got {v!r}")
+    return x
+
+
+@dataclass(frozen=True, slots=True)
+class StageNetwork:
+    """The external network of a stage in the AC analysis (module docstring).
+
+    Parameters
+    ----------
+    bias : {'divider', 'fixed', 'collector-feedback', 'none'}
+        How the base is biased: ``r1``/``r2`` divider, ``rb`` from the supply, ``rb`` from
+        the collector, or nothing at the base (a bias applied elsewhere).
+    r1, r2 : float or None
+        Divider resistors in ohm (supply to base, base to ground).
+    rb : float or None
+        Base resistor in ohm (from the supply, or from the collector).
+    rc : float
+        Collector resistor to the supply in ohm (0: collector at AC ground).
+    re : float
+        Emitter resistor in ohm (0: emitter at ground).
+    re_bypassed : float or None
+        The part of ``re`` that ``c_bypass`` shunts, ohm (default: all of ``re`` when
+        ``c_bypass`` is given).
+    c_in, c_out, c_base : float, "short" or None
+        Input and output coupling capacitors and the base-to-ground capacitor of a common-base
+        stage, F (None or "short": ideal).
+    c_bypass : float, "short" or None
+        Emitter bypass capacitor, F ("short": ideal bypass; None: no bypass).
+    """
+
+    bias: str = "divider"
+    r1: float | None = None
+    r2: float | None = None
+    rb: float | None = None
+    rc: float = 0.0
+    re: float = 0.0
+    re_bypassed: float | None = None
+    c_in: object = None
+    c_out: object = None
+    c_bypass: object = None
+    c_base: object = None
+
+    def __post_init__(self) -> None:
+        if self.bias not in _BIAS_KINDS:
+            raise InputError(f"bias: expected one of {', '.join(_BIAS_KINDS)}, got {self.bias!r}")
+        need = {"divider": ("r1", "r2"), "fixed": ("rb",), "collector-feedback": ("rb",), "none": ()}
+        for name in ("r1", "r2", "rb"):
+            v = getattr(self, name)
+            if name in need[self.bias]:
+                if v is None:
+                    raise InputError(f"{name}: missing; a {self.bias} network needs "
+                                     f"{' and '.join(need[self.bias])} (ohm)")
+                object.__setattr__(self, name, _resistance(name, v, zero_ok=False))
+            elif v is not None:
+                raise InputError(f"{name}: not part of a {self.bias} network")
+        object.__setattr__(self, "rc", _resistance("rc", self.rc))
+        object.__setattr__(self, "re", _resistance("re", self.re))
+        for name in CAPACITORS:
+            object.__setattr__(self, name, _capacitance(name, getattr(self, name)))
+        if self.re_bypassed is not None:
+            rb_ = _resistance("re_bypassed", self.re_bypassed)
+            if rb_ > self.re:
+                raise InputError(f"re_bypassed: {rb_:g} ohm is more than re = {self.re:g} ohm")
+            if self.c_bypass is None:
+                raise InputError("re_bypassed: given without c_bypass (the capacitor that bypasses it)")
+            object.__setattr__(self, "re_bypassed", rb_)
+
+    @property
+    def bypassed(self) -> float:
+        """The part of ``re`` shunted by ``c_bypass``, ohm (0 without a bypass capacitor)."""
+        if self.c_bypass is None:
+            return 0.0
+        return self.re if self.re_bypassed is None else self.re_bypassed
+
+    def shorted(self) -> "StageNetwork":
+        """The same network with every coupling and bypass capacitor ideal (mid-band)."""
+        import dataclasses
+
+        return dataclasses.replace(self, c_in=None, c_out=None, c_base=None,
+                                   c_bypass=None if self.c_bypass is None else SHORT)
+
+    def capacitors(self) -> dict[str, float]:
+        """The capacitors that are real parts (not ideal), F."""
+        return {n: getattr(self, n) for n in CAPACITORS if isinstance(getattr(self, n), float)}
+
+    def netlist(self, terminals: tuple[str, str, str], config_index: int) -> tuple[Netlist, dict[str, str]]:
+        """The network's elements around a device, and the node joins it asks for.
+
+        Parameters
+        ----------
+        terminals : (str, str, str)
+            The device's terminal names: base, collector, emitter (gate, drain, source).
+        config_index : int
+            0 for common emitter (source), 1 for common base (gate), 2 for common collector (drain).
+
+        Returns
+        -------
+        (Netlist, dict)
+            The elements, and a mapping of node names to join (ideal capacitors, a zero ``rc``
+            of a common-collector stage, a grounded base of a common-base stage); the caller
+            applies it to the whole stage netlist.
+        """
+        b, c, e = terminals
+        els: list[Element] = []
+        joins: dict[str, str] = {}
+
+        def couple(name: str, a: str, z: str) -> None:
+            v = getattr(self, name)
+            if isinstance(v, float):
+                els.append(capacitor(name, a, z, v))
+            else:
+                joins[z] = a  # an ideal capacitor: the terminal is the port node itself
+
+        # port 1 and port 2 terminals of each arrangement
+        inside_in, inside_out = ((b, c), (e, c), (b, e))[config_index]
+        couple("c_in", PORT_IN, inside_in)
+        couple("c_out", PORT_OUT, inside_out)
+        # bias at the base
+        if self.bias == "divider":
+            els += [resistor("r1", b, GROUND, self.r1), resistor("r2", b, GROUND, self.r2)]
+        elif self.bias == "fixed":
+            els.append(resistor("rb", b, GROUND, self.rb))
+        elif self.bias == "collector-feedback":
+            els.append(resistor("rb", c, b, self.rb))
+        # collector to the supply (AC ground)
+        if self.rc > 0:
+            els.append(resistor("rc", c, GROUND, self.rc))
+        elif config_index == 2:
+            joins[c] = GROUND  # common collector: the collector is AC ground
+        # emitter resistor: unbypassed part, then the bypassed part and its capacitor
+        # (a bypass applies to the common-emitter arrangement only: in cb and cc the emitter
+        # is a port, and its resistor stays whole)
+        bypassed = self.bypassed if config_index == 0 else 0.0
+        unbypassed = self.re - bypassed
+        if self.re == 0:
+            if config_index == 0:  # common emitter: the emitter is AC ground
+                joins[e] = GROUND
+        else:
+            node = e
+            if unbypassed > 0:
+                node = e + "_rb" if bypassed > 0 else GROUND
+                els.append(resistor("re_unbypassed" if bypassed > 0 else "re", e, node, unbypassed))
+            if bypassed > 0:
+                if self.c_bypass == SHORT:
+                    joins[node] = GROUND
+                else:
+                    els += [resistor("re_bypassed", node, GROUND, bypassed),
+                            capacitor("c_bypass", node, GROUND, self.c_bypass)]
+        # common base: the base to ground through c_base
+        if config_index == 1:
+            if isinstance(self.c_base, float):
+                els.append(capacitor("c_base", b, GROUND, self.c_base))
+            else:
+                joins[b] = GROUND
+        return Netlist(tuple(els)), joins
