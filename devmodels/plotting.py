@@ -2,7 +2,8 @@
 
 The functions take result objects (:class:`~devmodels.analysis.Terminated`,
 :class:`~devmodels.twoport.TwoPort`, :class:`~devmodels.merit.FrequencyFigures`) and only
-draw them; nothing here computes a physical quantity.
+draw them; nothing here computes a physical quantity.  Figures are rendered into memory and
+written atomically through :mod:`devmodels.fileio` (:func:`save_figure`).
 """
 
 from __future__ import annotations
@@ -13,7 +14,7 @@ import numpy as np
 
 from .exceptions import InputError
 
-__all__ = ["plot_report", "PLOT_SUFFIXES"]
+__all__ = ["plot_report", "save_figure", "PLOT_SUFFIXES"]
 
 PLOT_SUFFIXES = (".png", ".svg")
 _COLORS = {"ce": "tab:blue", "cb": "tab:orange", "cc": "tab:green",
@@ -21,12 +22,52 @@ _COLORS = {"ce": "tab:blue", "cb": "tab:orange", "cc": "tab:green",
 
 
 def _check_path(path) -> Path:
+    """Check a plot file name (``.png`` or ``.svg``) and that it can be written.
+
+    Raises :class:`InputError` for another suffix and
+    :class:`~devmodels.exceptions.OutputError` (``"plot: cannot write ..."``) when the file
+    cannot be written (see :func:`devmodels.fileio.check_destination`).
+    """
+    from .fileio import check_destination, short_path
+
     p = Path(path)
     if p.suffix.lower() not in PLOT_SUFFIXES:
-        raise InputError(f"plot: expected a .png or .svg file name, got {str(p)!r}")
-    if not (p.parent if str(p.parent) else Path(".")).is_dir():
-        raise InputError(f"plot: directory {str(p.parent)!r} does not exist")
-    return p
+        raise InputError(f"plot: expected a .png or .svg file name, got {short_path(p)!r}")
+    return check_destination(p, option="plot")
+
+
+def save_figure(fig, path, *, option: str = "plot", dpi: int = 110) -> Path:
+    """Render ``fig`` into memory (format from the suffix) and write it atomically to ``path``.
+
+    The image is written through :func:`devmodels.fileio.atomic_write_bytes`: never half a
+    file, a symbolic link at ``path`` replaced (not followed), the mode of a replaced file
+    kept; :class:`~devmodels.exceptions.OutputError` (starting with ``option``) when it
+    cannot be written.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+        The figure.
+    path : str or Path
+        Output file; its suffix (``.png``, ``.svg``, or another format matplotlib knows)
+        chooses the format.
+    option : str
+        Option name for error messages.
+    dpi : int
+        Resolution of raster formats, dots per inch.
+    """
+    import io
+
+    from .fileio import atomic_write_bytes, short_path
+
+    p = Path(path)
+    fmt = p.suffix.lower().lstrip(".")
+    if fmt not in fig.canvas.get_supported_filetypes():
+        raise InputError(f"{option}: expected a file name ending in an image format (.png, .svg), "
+                         f"got {short_path(p)!r}")
+    buf = io.BytesIO()
+    fig.savefig(buf, format=fmt, dpi=dpi)
+    return atomic_write_bytes(p, buf.getvalue(), option=option)
 
 
 def _db20(x: np.ndarray) -> np.ndarray:
@@ -108,6 +149,19 @@ def plot_report(path, gains: dict | None = None, s_ports: dict | None = None, fi
         |h21| of the CE device with fT marked.
     title : str
         Figure title.
+
+    Returns
+    -------
+    Path
+        The file written.
+
+    Raises
+    ------
+    InputError
+        Another suffix than ``.png`` / ``.svg``, or nothing to draw.
+    OutputError
+        The file cannot be written (``"plot: cannot write ..."``); an existing file is left
+        as it was.
     """
     p = _check_path(path)
     import matplotlib
@@ -141,7 +195,7 @@ def plot_report(path, gains: dict | None = None, s_ports: dict | None = None, fi
     if title:
         fig.suptitle(title, fontsize=11)
     try:
-        fig.savefig(p, dpi=110)
+        save_figure(fig, p, option="plot")
     finally:
         plt.close(fig)
     return p

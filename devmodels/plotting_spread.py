@@ -1,7 +1,8 @@
 """Histograms of a spread analysis (matplotlib, imported here only, Agg backend).
 
 One panel per result: the histogram of the samples, the 5th/50th/95th percentiles as
-dashed lines, and the two corner cases (every limit low, every limit high) as markers.
+dashed lines, and the two corner cases (every limit low, every limit high) as markers.  The
+figure is rendered into memory and written atomically (:func:`devmodels.plotting.save_figure`).
 """
 
 from __future__ import annotations
@@ -38,7 +39,19 @@ def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
     -------
     Path
         The file written.
+
+    Raises
+    ------
+    InputError
+        A suffix that is not an image format matplotlib writes.
+    OutputError
+        The file cannot be written (``"plot: cannot write ..."``); an existing file is left
+        as it was.
     """
+    from .fileio import check_destination
+    from .plotting import save_figure
+
+    out = check_destination(path, option="plot")
     import matplotlib
 
     matplotlib.use("Agg")
@@ -76,7 +89,7 @@ def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
                  "dashed: median; dotted: 5th and 95th percentiles; triangles: corners (all low, all high)",
                  fontsize=9)
     fig.tight_layout()
-    out = Path(path)
-    fig.savefig(out, dpi=110)
-    plt.close(fig)
-    return out
+    try:
+        return save_figure(fig, out, option="plot")
+    finally:
+        plt.close(fig)

@@ -1,4 +1,4 @@
-"""Export (devmodels.export): Touchstone read back by scikit-rf, CSV, JSON, atomic writes."""
+"""Export (devmodels.export): Touchstone read back by scikit-rf, CSV, JSON, block-by-block atomic writes."""
 
 from __future__ import annotations
 
@@ -120,16 +120,22 @@ def test_csv_round_trip_and_header(tmp_path, y_ce, polar):
     assert rel_err(c.reshape(-1, 2, 2), tp.data) < 1e-12
 
 
-def test_json_equals_params_json(tmp_path, y_ce):
-    from devmodels.cli.common import jsonable, twoport_json
-
-    tp = y_ce.to("s")
-    write_json(tp, tmp_path / "a.json")
-    assert json.loads((tmp_path / "a.json").read_text()) == jsonable(twoport_json(tp))
-    assert twoport_dict(tp) == jsonable(twoport_json(tp))
+def test_json_file_is_the_params_object(tmp_path, y_ce):
+    # The file holds twoport_dict (the params JSON the command line prints, see
+    # test_cli_core), and its [re, im] pairs give the data back exactly.
+    tp = y_ce.to("s", (50.0, 75.0))
+    write_json(tp, tmp_path / "a.json", {"figures": {"ft": 3e8}})
+    obj = json.loads((tmp_path / "a.json").read_text())
+    assert obj == {**twoport_dict(tp), "figures": {"ft": 3e8}}
+    assert obj["kind"] == "s" and obj["z0"] == [50.0, 75.0] and obj["config"] == "ce"
+    assert [p["freq"] for p in obj["points"]] == FREQ.tolist()
+    got = np.array([[[complex(*p[k]) for k in ("11", "12")], [complex(*p[k]) for k in ("21", "22")]]
+                    for p in obj["points"]])
+    np.testing.assert_array_equal(got, tp.data)
 
 
 def test_atomic_write_leaves_no_partial_file(tmp_path, monkeypatch):
+    # An exception that is not an OSError goes on unchanged, after the temporary file is removed.
     target = tmp_path / "keep.s2p"
     target.write_text("old content\n")
 
@@ -160,5 +166,56 @@ def test_write_by_extension(tmp_path, y_ce):
         write_by_extension(s, tmp_path / "a.y2p")
     with pytest.raises(dm.InputError, match="^out:"):
         write_by_extension(s, tmp_path / "a.txt")
-    with pytest.raises(dm.InputError, match="^out:"):
+    with pytest.raises(dm.OutputError, match="^out: cannot write .*does not exist"):
         write_by_extension(s, tmp_path / "missing" / "a.csv")
+    (tmp_path / "d.csv").mkdir()
+    with pytest.raises(dm.OutputError, match="^sweep-out: cannot write .*directory"):
+        write_by_extension(s, tmp_path / "d.csv", option="sweep-out")
+
+
+@pytest.mark.parametrize("block", [1, 5, 36, 37, 1000])
+def test_blocks_join_to_the_same_text(y_ce, block):
+    # Block by block or at once: the same bytes, whatever the block size.
+    from devmodels.export import csv_chunks, csv_text, touchstone_chunks
+
+    for tp in (y_ce.to("s"), y_ce.to("h"), y_ce.to("s", (50.0, 75.0))):
+        for polar in (False, True):
+            if tp.z0[0] == tp.z0[1]:
+                assert "".join(touchstone_chunks(tp, "1.1", polar, "c", block)) == touchstone_text(tp, "1.1", polar, "c")
+            assert "".join(touchstone_chunks(tp, "2.0", polar, "", block)) == touchstone_text(tp, "2.0", polar)
+            assert "".join(csv_chunks(tp, polar, block)) == csv_text(tp, polar)
+
+
+@pytest.mark.parametrize("extra", [None, {}, {"figures": {"ft": 3e8, "fmax": None}}, {"kind": "replaced"}])
+def test_json_blocks_equal_one_dump(y_ce, extra):
+    from devmodels.export import json_chunks
+
+    tp = y_ce.to("s")
+    obj = twoport_dict(tp)
+    obj.update(extra or {})
+    expect = json.dumps(obj, allow_nan=False) + "\n"
+    for block in (1, 7, 100):
+        assert "".join(json_chunks(tp, extra, block)) == expect
+    one = dm.TwoPort(None, [[1.1e3, 2.5e-4], [50, 24e-6]], "h")
+    assert "".join(json_chunks(one, extra, 1)) == json.dumps({**twoport_dict(one), **(extra or {})}) + "\n"
+
+
+def test_bad_data_is_refused_before_any_file_exists(tmp_path, y_ce):
+    # Touchstone cannot hold ABCD: the check comes before the temporary file is made.
+    with pytest.raises(dm.InputError, match="^kind:"):
+        write_touchstone(y_ce.to("abcd"), tmp_path / "a.s2p")
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_writers_replace_a_symlink_and_keep_a_mode(tmp_path, y_ce):
+    real = tmp_path / "target.txt"
+    real.write_text("untouched\n")
+    link = tmp_path / "a.s2p"
+    link.symlink_to(real)
+    write_by_extension(y_ce.to("s"), link)
+    assert not link.is_symlink() and real.read_text() == "untouched\n"
+    assert link.read_text() == touchstone_text(y_ce.to("s"))
+    os.chmod(link, 0o600)
+    write_csv(y_ce, link.with_suffix(".csv"))
+    write_touchstone(y_ce.to("s"), link, polar=True)
+    assert os.stat(link).st_mode & 0o777 == 0o600

@@ -1,0 +1,9 @@
+[Version] 2.0
+# Hz S RI R 50
+[Number of Ports] 2
+[Two-Port Data Order] 12_21
+[Mixed-Mode Order] D2,1 C2,1
+[Number of Frequencies] 1
+[Network Data]
+1e6 0.1 0.2 0.5 -0.1 0.01 0.002 0.3 -0.2
+[End]
