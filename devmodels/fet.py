@@ -42,11 +42,13 @@ import math
 from dataclasses import dataclass
 from typing import ClassVar
 
-from .constants import BJT_CONFIGS, FET_CONFIGS
+import numpy as np
+
+from .constants import BJT_CONFIGS, BOLTZMANN, FET_CONFIGS
 from .exceptions import InputError
 from .fetbias import FET_DEVICES, JfetBias, MosfetBias
 from .models import check_elements
-from .netlist import Netlist, capacitor, optional, resistor, series_node, vccs
+from .netlist import Netlist, capacitor, noise_current, optional, resistor, series_node, thermal_noise, vccs
 
 __all__ = ["FetModel"]
 
@@ -73,6 +75,14 @@ class FetModel:
         ``nmos``, ``pmos``, ``njfet`` or ``pjfet``.
     vov : float or None
         Overdrive voltage at the bias point in V.
+    gamma_n : float
+        Channel thermal-noise coefficient: the drain noise density is 4 k T gamma_n gm
+        (2/3 for a long channel in saturation; van der Ziel, *Noise in Solid State Devices
+        and Circuits*, 1986; from memory).
+    flicker_corner : float
+        Corner frequency in Hz of the 1/f part of the drain noise (0: none).
+    temp : float
+        Temperature of the device and its noise in K.
     """
 
     gm: float
@@ -87,6 +97,9 @@ class FetModel:
     rsx: float = 0.0
     device: str = "nmos"
     vov: float | None = None
+    gamma_n: float = 2.0 / 3.0
+    flicker_corner: float = 0.0
+    temp: float = 300.0
 
     #: Device family, configurations, terminal names (port order of the indefinite matrix).
     family: ClassVar[str] = "fet"
@@ -101,7 +114,8 @@ class FetModel:
     textbook_elements: ClassVar[tuple[str, ...]] = ("gm", "gmb", "ro", "cgs", "cgd")
 
     def __post_init__(self) -> None:
-        check_elements(self, positive=("gm",), nonneg=("gmb", "cgs", "cgd", "csb", "cdb", "rg", "rdx", "rsx"),
+        check_elements(self, positive=("gm", "gamma_n", "temp"),
+                       nonneg=("gmb", "cgs", "cgd", "csb", "cdb", "rg", "rdx", "rsx", "flicker_corner"),
                        resist=("ro",))
         if self.device not in FET_DEVICES:
             raise InputError(f"device: expected one of {', '.join(FET_DEVICES)}, got {self.device!r}")
@@ -120,6 +134,11 @@ class FetModel:
             raise InputError(f"bias: expected a MosfetBias or a JfetBias, got {type(bias).__name__}")
         return cls(gm=gm, gmb=gmb, ro=ro, cgs=bias.cgs, cgd=bias.cgd, csb=bias.csb, cdb=bias.cdb,
                    rg=bias.rg, device=bias.device, vov=bias.vov)
+
+    @property
+    def temperature(self) -> float:
+        """Temperature of the device and its noise sources in K."""
+        return self.temp
 
     @property
     def is_jfet(self) -> bool:
@@ -156,7 +175,9 @@ class FetModel:
         """The model's elements between g, d, s, the body node and internal nodes g', d', s'.
 
         The body is the node ``body``; a stage ties it to its common terminal.  A zero series
-        resistance (rg, rdx, rsx) is no element.
+        resistance (rg, rdx, rsx) is no element.  Noise sources: the channel's thermal noise
+        4 k T gamma_n gm from d' to s' (with its 1/f part above ``flicker_corner``) and the
+        thermal noise of rg, rdx, rsx.
         """
         elements, g = series_node("rg", "g", "g'", self.rg)
         more, d = series_node("rdx", "d", "d'", self.rdx)
@@ -170,7 +191,12 @@ class FetModel:
                      *optional(vccs("gmb", d, s, "body", s, self.gmb)),
                      *optional(capacitor("csb", s, "body", self.csb)),
                      *optional(capacitor("cdb", d, "body", self.cdb))]
-        return Netlist(tuple(elements))
+        noise = [n for el in elements if el.name in ("rg", "rdx", "rsx") for n in thermal_noise(el, self.temp)]
+        channel = 4 * BOLTZMANN * self.temp * self.gamma_n * np.asarray(self.gm)
+        noise.append(noise_current("noise_channel", d, s, channel))
+        if np.any(np.asarray(self.flicker_corner) > 0):
+            noise.append(noise_current("flicker_channel", d, s, channel * self.flicker_corner, kind="flicker"))
+        return Netlist(tuple(elements + noise))
 
 
 # --- kept only until the command line stops asking (it is being rewritten) ---------------

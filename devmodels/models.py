@@ -22,9 +22,10 @@ from typing import ClassVar
 import numpy as np
 
 from .bias import BipolarBias
-from .constants import BJT_CONFIGS, thermal_voltage
+from .constants import BJT_CONFIGS, BOLTZMANN, ELEMENTARY_CHARGE, thermal_voltage
 from .exceptions import BiasError, InputError
-from .netlist import Netlist, capacitor, optional, resistor, series_node, vccs
+from .netlist import (Element, Netlist, capacitor, noise_current, optional, resistor, series_node,
+                      thermal_noise, vccs)
 
 __all__ = ["HybridPi", "TModel", "hybrid_pi_values", "check_elements"]
 
@@ -57,6 +58,21 @@ def check_elements(obj, positive=(), nonneg=(), resist=()) -> None:
             if not np.all(ok):
                 bad = v[~ok].flat[0] if v.ndim else v
                 raise InputError(f"{name}: expected {what}, got {float(bad):g}")
+
+
+def _bipolar_noise(elements: list, temp, *, ic, ib, base, collector, flicker_corner=0.0) -> list[Element]:
+    """Noise sources of a bipolar model: the ohmic resistors' thermal noise, base and collector shot noise."""
+    q = ELEMENTARY_CHARGE
+    out: list[Element] = []
+    for el in elements:
+        if el.name in ("rb", "rcx", "rex"):
+            out += thermal_noise(el, temp)
+    out.append(noise_current("shot_ib", base[0], base[1], 2 * q * np.asarray(ib)))
+    if np.any(np.asarray(flicker_corner) > 0):
+        out.append(noise_current("flicker_ib", base[0], base[1], 2 * q * np.asarray(ib) * flicker_corner,
+                                 kind="flicker"))
+    out.append(noise_current("shot_ic", collector[0], collector[1], 2 * q * np.asarray(ic)))
+    return out
 
 
 def hybrid_pi_values(ic, beta, temp, *, va=None, ft=None, cmu=0.0) -> dict:
@@ -106,7 +122,11 @@ class HybridPi:
     rcx, rex : float
         Collector and emitter ohmic resistances in ohm.
     vt : float
-        Thermal voltage in V at which the model was made.
+        Thermal voltage in V at which the model was made (it also sets the temperature of
+        the noise sources, T = q VT / k).
+    flicker_corner : float
+        Corner frequency in Hz of the 1/f part of the base current noise (0: none): the
+        base noise density is 2 q IB (1 + flicker_corner / f).
     """
 
     gm: float
@@ -119,6 +139,7 @@ class HybridPi:
     rcx: float = 0.0
     rex: float = 0.0
     vt: float = thermal_voltage(300.0)
+    flicker_corner: float = 0.0
 
     #: Device family, configurations, terminal names (port order of the indefinite matrix).
     family: ClassVar[str] = "bipolar"
@@ -133,8 +154,13 @@ class HybridPi:
     textbook_elements: ClassVar[tuple[str, ...]] = ("gm", "r_pi", "ro", "rb", "c_pi", "c_mu")
 
     def __post_init__(self) -> None:
-        check_elements(self, positive=("gm", "r_pi", "vt"), nonneg=("c_pi", "c_mu", "rb", "rcx", "rex"),
-                       resist=("ro", "r_mu"))
+        check_elements(self, positive=("gm", "r_pi", "vt"),
+                       nonneg=("c_pi", "c_mu", "rb", "rcx", "rex", "flicker_corner"), resist=("ro", "r_mu"))
+
+    @property
+    def temperature(self):
+        """Junction temperature in K, q VT / k (the temperature of the noise sources)."""
+        return self.vt * ELEMENTARY_CHARGE / BOLTZMANN
 
     @classmethod
     def from_bias(cls, bias: BipolarBias) -> "HybridPi":
@@ -175,6 +201,10 @@ class HybridPi:
         """The model's elements between its terminals b, c, e and internal nodes b', c', e'.
 
         A zero series resistance (rb, rcx, rex) is no element: the terminal is the internal node.
+        Noise sources: the thermal noise of rb, rcx and rex (4kT/R), the shot noise of the
+        base current 2 q IB from b' to e' (with its 1/f part above ``flicker_corner``) and of
+        the collector current 2 q IC from c' to e', uncorrelated (Gray, Hurst, Lewis and
+        Meyer, ch. 11; from memory).  r_pi and ro are not physical resistors: noiseless.
         """
         elements, b = series_node("rb", "b", "b'", self.rb)
         more, c = series_node("rcx", "c", "c'", self.rcx)
@@ -187,6 +217,8 @@ class HybridPi:
                      *optional(capacitor("c_mu", b, c, self.c_mu)),
                      *optional(resistor("ro", c, e, self.ro)),
                      vccs("gm", c, e, b, e, self.gm)]
+        elements += _bipolar_noise(elements, self.temperature, ic=self.gm * self.vt, ib=self.vt / self.r_pi,
+                                   base=(b, e), collector=(c, e), flicker_corner=self.flicker_corner)
         return Netlist(tuple(elements))
 
     # --- derived quantities -------------------------------------------------------
@@ -270,6 +302,11 @@ class TModel:
         check_elements(self, positive=("re", "alpha", "vt"), nonneg=("c_e", "c_mu", "rb", "rcx", "rex"),
                        resist=("ro", "r_mu"))
 
+    @property
+    def temperature(self):
+        """Junction temperature in K, q VT / k (the temperature of the noise sources)."""
+        return self.vt * ELEMENTARY_CHARGE / BOLTZMANN
+
     def netlist(self) -> Netlist:
         """The T model's elements: re || C_e from b' to e', the source alpha i_e from c' into b'.
 
@@ -289,4 +326,7 @@ class TModel:
                      *optional(resistor("r_mu", b, c, self.r_mu)),
                      *optional(capacitor("c_mu", b, c, self.c_mu)),
                      *optional(resistor("ro", c, e, self.ro))]
+        gm = self.alpha / self.re
+        elements += _bipolar_noise(elements, self.temperature, ic=gm * self.vt,
+                                   ib=gm * self.vt * (1 - self.alpha) / self.alpha, base=(b, e), collector=(c, e))
         return Netlist(tuple(elements))

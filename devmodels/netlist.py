@@ -40,10 +40,13 @@ import numpy as np
 
 from .exceptions import InputError
 
-__all__ = ["Element", "Netlist", "ElementKind", "resistor", "capacitor", "vccs", "series_node",
-           "reduce_to", "stamp", "kron_reduce"]
+__all__ = ["Element", "Netlist", "ElementKind", "NOISE_KINDS", "resistor", "capacitor", "vccs",
+           "noise_current", "thermal_noise", "series_node", "optional", "reduce_to", "reduce_with_noise", "reduce_over_freq",
+           "stamp", "kron_reduce", "check_freq"]
 
-ElementKind = Literal["resistor", "capacitor", "vccs"]
+ElementKind = Literal["resistor", "capacitor", "vccs", "noise", "flicker"]
+#: Element kinds that are noise current sources (they stamp nothing into Y).
+NOISE_KINDS: tuple[str, ...] = ("noise", "flicker")
 
 
 @dataclass(frozen=True, slots=True)
@@ -52,12 +55,16 @@ class Element:
 
     Parameters
     ----------
-    kind : {'resistor', 'capacitor', 'vccs'}
-        Resistor (value in ohm), capacitor (F) or voltage-controlled current source (S).
+    kind : {'resistor', 'capacitor', 'vccs', 'noise', 'flicker'}
+        Resistor (value in ohm), capacitor (F), voltage-controlled current source (S), or a
+        noise current source between two nodes: ``noise`` is white, ``value`` its one-sided
+        power spectral density in A^2/Hz; ``flicker`` has the density ``value / f``
+        (``value`` in A^2).  Noise sources are uncorrelated with each other.
     name : str
         The element's key: the symbol of the sympy back end and the key of JSON output.
     nodes : tuple of str
-        ``(a, b)`` for a resistor or capacitor; ``(out_from, out_to, ctl_plus, ctl_minus)``
+        ``(a, b)`` for a resistor, capacitor or noise source (whose current flows from a to
+        b inside the source); ``(out_from, out_to, ctl_plus, ctl_minus)``
         for a source whose current ``value * (V[ctl_plus] - V[ctl_minus])`` leaves node
         ``out_from`` through the source and enters ``out_to``.
     value : float or ndarray (N,)
@@ -71,7 +78,7 @@ class Element:
 
     def __post_init__(self) -> None:
         want = 4 if self.kind == "vccs" else 2
-        if self.kind not in ("resistor", "capacitor", "vccs"):
+        if self.kind not in ("resistor", "capacitor", "vccs") + NOISE_KINDS:
             raise InputError(f"kind: unknown element kind {self.kind!r}")
         if len(self.nodes) != want:
             raise InputError(f"nodes: a {self.kind} takes {want} nodes, got {len(self.nodes)}")
@@ -113,6 +120,45 @@ def capacitor(name: str, a: str, b: str, value) -> Element:
         Capacitance in F.
     """
     return Element("capacitor", name, (a, b), value)
+
+
+def noise_current(name: str, a: str, b: str, psd, kind: str = "noise") -> Element:
+    """A noise current source between two nodes.
+
+    Parameters
+    ----------
+    name : str
+        The source's key (e.g. ``noise_rb``, ``shot_ib``).
+    a, b : str
+        The nodes; the current flows from a to b inside the source.
+    psd : float or ndarray
+        One-sided power spectral density of the current: A^2/Hz for ``noise`` (white), or
+        the coefficient in A^2 of a 1/f density ``psd / f`` for ``flicker``.
+    kind : {'noise', 'flicker'}
+        White or 1/f.
+    """
+    return Element(kind, name, (a, b), psd)
+
+
+def thermal_noise(element: Element, temp) -> list[Element]:
+    """The thermal (Johnson) noise current 4kT/R of a resistor element, as a noise source.
+
+    Johnson, "Thermal agitation of electricity in conductors", and Nyquist, "Thermal
+    agitation of electric charge in conductors", Phys. Rev. 32, 1928.
+
+    Parameters
+    ----------
+    element : Element
+        A resistor (any other kind gives no source).
+    temp : float or ndarray
+        Its temperature in K.
+    """
+    if element.kind != "resistor":
+        return []
+    from .constants import BOLTZMANN
+
+    return [noise_current("noise_" + element.name, element.nodes[0], element.nodes[1],
+                          4 * BOLTZMANN * np.asarray(temp) / np.asarray(element.value))]
 
 
 def vccs(name: str, out_from: str, out_to: str, ctl_plus: str, ctl_minus: str, value) -> Element:
@@ -255,6 +301,8 @@ def stamp(netlist: Netlist, order: Sequence[str], omega, n: int) -> np.ndarray:
     Y = np.zeros((m, m, n), dtype=complex)
     jw = 1j * np.asarray(omega)
     for el in netlist.elements:
+        if el.kind in NOISE_KINDS:
+            continue
         y = el.admittance(jw)
         if el.kind == "vccs":
             a, b, p, q = (idx[x] for x in el.nodes)
@@ -278,7 +326,7 @@ def _l1(x: np.ndarray) -> np.ndarray:
     return np.abs(x.real) + np.abs(x.imag)
 
 
-def kron_reduce(Y: np.ndarray, keep: int, names: Sequence[str] = ()) -> np.ndarray:
+def kron_reduce(Y: np.ndarray, keep: int, names: Sequence[str] = (), injections: np.ndarray | None = None):
     """Remove the nodes after the first ``keep`` from an indefinite matrix.
 
     Nodes are removed last to first; each new diagonal entry is the best of three
@@ -292,10 +340,15 @@ def kron_reduce(Y: np.ndarray, keep: int, names: Sequence[str] = ()) -> np.ndarr
         Number of leading nodes kept.
     names : sequence of str
         Node names, for the error message.
+    injections : ndarray, complex, shape (m, S, n), optional
+        Currents injected into each node by S sources (one column per source); carried
+        through the reduction (J_i <- J_i - Y_ik / Y_kk J_k) to the kept nodes, where they
+        are the short-circuit currents of the sources (overwritten).
 
     Returns
     -------
     ndarray, complex, shape (keep, keep, n)
+        The reduced matrix; with ``injections``, the pair (matrix, injections (keep, S, n)).
 
     Raises
     ------
@@ -316,6 +369,8 @@ def kron_reduce(Y: np.ndarray, keep: int, names: Sequence[str] = ()) -> np.ndarr
         corr = col * row                                         # Y_ik Y_ki / Y_kk
         kept = Y[:k, :k]
         kept -= col[:, None, :] * row[None, :, :]
+        if injections is not None:
+            injections = injections[:k] - col[:, None, :] * injections[k][None, :, :]
         # Where the update of a diagonal entry may cancel (the correction is at least half the
         # old entry), compare it with minus the row sum and minus the column sum and keep the
         # form with the smallest terms.  A loop over the few nodes concerned, not over points.
@@ -329,7 +384,7 @@ def kron_reduce(Y: np.ndarray, keep: int, names: Sequence[str] = ()) -> np.ndarr
             best = np.where(size_row <= size_direct[i], by_row, kept[i, i])
             kept[i, i] = np.where(size_col < np.minimum(size_row, size_direct[i]), by_col, best)
         Y = kept
-    return Y
+    return Y if injections is None else (Y, injections)
 
 
 def reduce_to(netlist: Netlist, keep: Sequence[str], omega, n: int) -> np.ndarray:
@@ -353,6 +408,58 @@ def reduce_to(netlist: Netlist, keep: Sequence[str], omega, n: int) -> np.ndarra
     order = list(keep) + [x for x in nodes if x not in keep]
     Y = kron_reduce(stamp(netlist, order, omega, n), len(keep), order)
     return np.ascontiguousarray(np.moveaxis(Y, 2, 0))
+
+
+def reduce_with_noise(netlist: Netlist, keep: Sequence[str], omega, n: int):
+    """The indefinite matrix at ``keep`` and the correlation matrix of its noise currents.
+
+    Every noise source of the netlist is carried to the kept nodes through the same Kron
+    reduction as the admittances (the noise of an internal node reaches the kept nodes as
+    the Schur complement carries its current; Hillbrand and Russer, "An efficient method
+    for computer aided noise analysis of linear amplifier networks", IEEE Trans. CAS 23(4),
+    1976, use this form).  The result ``C`` is the one-sided spectral density matrix of the
+    short-circuit noise currents at the kept nodes, C = sum_s psd_s J_s J_s^H (sources
+    uncorrelated).
+
+    Parameters
+    ----------
+    netlist : Netlist
+        The circuit, with noise sources among its elements.
+    keep : sequence of str
+        The nodes kept, in the order of the result.
+    omega : float or ndarray (n,)
+        Angular frequency in rad/s (must be > 0 where a flicker source is present).
+    n : int
+        Number of points.
+
+    Returns
+    -------
+    (ndarray, ndarray)
+        Y (n, k, k) in S and C (n, k, k) in A^2/Hz.
+    """
+    nodes = netlist.nodes
+    missing = [k for k in keep if k not in nodes]
+    if missing:
+        raise InputError(f"netlist: no element is connected to node {missing[0]!r}")
+    order = list(keep) + [x for x in nodes if x not in keep]
+    idx = {x: i for i, x in enumerate(order)}
+    sources = [e for e in netlist.elements if e.kind in NOISE_KINDS]
+    J = np.zeros((len(order), max(len(sources), 1), n), dtype=complex)
+    psd = np.zeros((max(len(sources), 1), n))
+    f = np.broadcast_to(np.asarray(omega, dtype=float) / (2 * math.pi), (n,))
+    for s, el in enumerate(sources):
+        a, b = idx[el.nodes[0]], idx[el.nodes[1]]
+        J[a, s] -= 1.0
+        J[b, s] += 1.0
+        if el.kind == "flicker":
+            if np.any(f <= 0):
+                raise InputError(f"{el.name}: a 1/f noise source needs a frequency above 0 Hz")
+            psd[s] = np.asarray(el.value) / f
+        else:
+            psd[s] = el.value
+    Y, Jk = kron_reduce(stamp(netlist, order, omega, n), len(keep), order, J)
+    C = np.einsum("isn,jsn->nij", Jk * psd[None], Jk.conj())
+    return np.ascontiguousarray(np.moveaxis(Y, 2, 0)), C
 
 
 def check_freq(freq) -> np.ndarray:

@@ -21,7 +21,7 @@ import numpy as np
 
 from .configs import CONFIG_TERMINALS, config_y
 from .exceptions import InputError
-from .netlist import Netlist, check_freq, reduce_over_freq, reduce_to, resistor
+from .netlist import Netlist, check_freq, reduce_over_freq, reduce_to, resistor, thermal_noise
 from .stagenetwork import GROUND, PORT_IN, PORT_OUT, StageNetwork
 from .twoport import TwoPort
 
@@ -36,6 +36,7 @@ class DeviceModel(Protocol):
     terminals: tuple[str, str, str]
     tied_to_common: tuple[str, ...]
     element_names: tuple[str, ...]
+    temperature: float
 
     def netlist(self) -> Netlist:
         """The model's elements between its terminals, internal nodes and tied nodes."""
@@ -114,16 +115,18 @@ class Stage:
         if np.any(np.asarray(self.rdeg) != 0):
             net = net.renamed({e: e + "_dev"})
             extra.append(resistor("rdeg", e + "_dev", e, self.rdeg))
+            extra += thermal_noise(extra[-1], model.temperature)
         # nodes tied to the common terminal (a FET's body) join it at the terminal, below rdeg;
         # in a stage with its network, the common terminal is AC ground
         common = model.terminals[CONFIG_TERMINALS[self.config][2]] if self.network is None else GROUND
         net = net.renamed({n: common for n in model.tied_to_common})
         if self.rfb is not None:
             extra.append(resistor("rfb", c, b, self.rfb))
+            extra += thermal_noise(extra[-1], model.temperature)
         net = net + Netlist(tuple(extra))
         if self.network is not None:
             index = model.configs.index(self.config)
-            outer, joins = self.network.netlist(model.terminals, index)
+            outer, joins = self.network.netlist(model.terminals, index, model.temperature)
             net = (net + outer).renamed(_closure(joins))
         return net
 

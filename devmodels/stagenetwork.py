@@ -35,7 +35,7 @@ import math
 from dataclasses import dataclass
 
 from .exceptions import InputError
-from .netlist import Element, Netlist, capacitor, resistor
+from .netlist import Element, Netlist, capacitor, resistor, thermal_noise
 
 __all__ = ["StageNetwork", "SHORT", "GROUND", "PORT_IN", "PORT_OUT", "CAPACITORS"]
 
@@ -152,7 +152,8 @@ class StageNetwork:
         """The capacitors that are real parts (not ideal), F."""
         return {n: getattr(self, n) for n in CAPACITORS if isinstance(getattr(self, n), float)}
 
-    def netlist(self, terminals: tuple[str, str, str], config_index: int) -> tuple[Netlist, dict[str, str]]:
+    def netlist(self, terminals: tuple[str, str, str], config_index: int,
+                temp: float = 300.0) -> tuple[Netlist, dict[str, str]]:
         """The network's elements around a device, and the node joins it asks for.
 
         Parameters
@@ -161,6 +162,8 @@ class StageNetwork:
             The device's terminal names: base, collector, emitter (gate, drain, source).
         config_index : int
             0 for common emitter (source), 1 for common base (gate), 2 for common collector (drain).
+        temp : float
+            Temperature of the resistors in K (their thermal noise sources).
 
         Returns
         -------
@@ -221,4 +224,5 @@ class StageNetwork:
                 els.append(capacitor("c_base", b, GROUND, self.c_base))
             else:
                 joins[b] = GROUND
+        els += [n for el in els for n in thermal_noise(el, temp)]
         return Netlist(tuple(els)), joins

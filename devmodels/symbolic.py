@@ -29,6 +29,7 @@ from dataclasses import dataclass
 
 from .configs import CONFIG_TERMINALS
 from .exceptions import InputError
+from .netlist import NOISE_KINDS
 
 __all__ = ["Formula", "derive", "element_values", "engine_check", "EngineCheck", "RESULTS", "EXTERNAL",
            "model_class"]
@@ -139,6 +140,8 @@ def _circuit(config: str, present: frozenset, low_frequency: bool):
     passive: list[tuple[str, str, object]] = []
     vccs: list[tuple[str, str, str, str, object]] = []
     for el in net.elements:
+        if el.kind in NOISE_KINDS:
+            continue  # noise sources stamp nothing into the nodal matrix
         if el.kind == "resistor":
             passive.append((el.nodes[0], el.nodes[1], _cond(el.name)))
         elif el.kind == "capacitor":
@@ -358,7 +361,8 @@ def element_values(model, *, rdeg: float = 0.0, rfb: float | None = None) -> dic
     """
     from .stage import Stage
 
-    return {k: float(v) for k, v in Stage(model, None, rdeg, rfb).netlist().values().items()}
+    return {e.name: float(e.value) for e in Stage(model, None, rdeg, rfb).netlist().elements
+            if e.kind not in NOISE_KINDS}
 
 
 @dataclass(frozen=True)

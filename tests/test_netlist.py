@@ -114,6 +114,8 @@ def _mp_indefinite(elements, keep, f, dps=50):
     Y = mp.matrix(m, m)
     jw = 1j * 2 * mp.pi * mp.mpf(f)
     for kind, ns, v in elements:
+        if kind in ("noise", "flicker"):
+            continue  # noise sources stamp nothing into the admittance matrix
         v = mp.mpf(v)
         if kind == "vccs":
             a, b, p, q = (ix[x] for x in ns)
@@ -174,3 +176,48 @@ def test_bipolar_with_small_ohmic_resistances_against_mpmath(f):
                 for part, want in ((got[i, j].real, float(mp.re(ref[i, j]))),
                                    (got[i, j].imag, float(mp.im(ref[i, j])))):
                     assert part == pytest.approx(want, rel=1e-9, abs=1e-15 * float(abs(ref[i, j]))), (config, i, j)
+
+
+K_B = 1.380649e-23
+Q_E = 1.602176634e-19
+
+
+def test_thermal_noise_of_resistors_in_series():
+    # Two resistors in series, each with its thermal noise 4kT/R (Johnson 1928; Nyquist 1928):
+    # the short-circuit noise current of the pair is that of one resistor R1 + R2.
+    from devmodels.netlist import Netlist, reduce_with_noise, resistor, thermal_noise
+
+    r1, r2 = resistor("r1", "a", "x", 1e3), resistor("r2", "x", "g", 3.3e3)
+    net = Netlist((r1, r2, *thermal_noise(r1, 290.0), *thermal_noise(r2, 290.0)))
+    _, C = reduce_with_noise(net, ("a", "g"), 2 * np.pi * 1e3, 1)
+    assert C[0, 0, 0].real == pytest.approx(4 * K_B * 290.0 / 4.3e3, rel=1e-12)
+    assert C[0, 0, 1].real == pytest.approx(-4 * K_B * 290.0 / 4.3e3, rel=1e-12)  # the same current leaves g
+
+
+def test_shot_noise_of_a_bipolar_at_its_terminals():
+    # No rb, no capacitances: the short-circuit noise currents at base and collector are the
+    # shot noise 2 q IB and 2 q IC, uncorrelated; r_pi and ro add none (they are not physical
+    # resistors; Gray, Hurst, Lewis and Meyer, ch. 11; from memory).
+    from devmodels.netlist import reduce_with_noise
+
+    m = dm.HybridPi.from_bias(_bias(ft=None, cmu=0.0))
+    st = dm.Stage(m, "ce")
+    _, C = reduce_with_noise(st.netlist(), st.terminals, 2 * np.pi * 1e3, 1)
+    ic, ib = 1e-3, 1e-3 / 100
+    assert C[0, 0, 0].real == pytest.approx(2 * Q_E * ib, rel=1e-12)
+    assert C[0, 1, 1].real == pytest.approx(2 * Q_E * ic, rel=1e-12)
+    assert abs(C[0, 0, 1]) <= 1e-12 * C[0, 1, 1].real
+
+
+def test_fet_channel_noise_and_flicker():
+    # Drain noise 4 k T gamma_n gm (van der Ziel, from memory), with a 1/f part that equals the
+    # white part at the corner frequency.
+    from devmodels.netlist import reduce_with_noise
+
+    m = dm.FetModel(gm=0.01, ro=20e3, gamma_n=2 / 3, flicker_corner=10e3, temp=300.0)
+    st = dm.Stage(m, "cs")
+    white = 4 * K_B * 300.0 * (2 / 3) * 0.01
+    for f, want in ((10e3, 2 * white), (1e6, white * 1.01)):
+        _, C = reduce_with_noise(st.netlist(), st.terminals, 2 * np.pi * f, 1)
+        assert C[0, 1, 1].real == pytest.approx(want, rel=1e-12)
+        assert C[0, 0, 0] == 0  # no gate resistance: no gate noise
