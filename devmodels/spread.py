@@ -73,8 +73,8 @@ class SpreadSetup:
         Stage configuration.
     freq : float
         Frequency of the analysis in Hz.
-    rs, rl : float
-        Source and load resistances in ohm (``math.inf`` for an open load).
+    rs, rl : float or complex
+        Source and load impedances in ohm, real part >= 0 (``math.inf`` for an open load).
     network : BiasNetwork or None
         The bias network; ``None`` to hold IC and VCE fixed at ``ic``, ``vce``.
     ic, vce : float or None
@@ -106,8 +106,8 @@ class SpreadSetup:
 
     config: str = "ce"
     freq: float = 1e3
-    rs: float = 50.0
-    rl: float = 1e3
+    rs: complex = 50.0
+    rl: complex = 1e3
     network: BiasNetwork | None = None
     ic: float | None = None
     vce: float | None = None
@@ -142,6 +142,14 @@ class SpreadSetup:
                 raise InputError(f"vce: {self.vce:g} V is below the saturation threshold {self.vce_sat:g} V")
         if not (math.isfinite(self.freq) and self.freq >= 0):
             raise InputError(f"freq: expected a frequency >= 0 Hz, got {self.freq:g}")
+        for name in ("rs", "rl"):
+            z = getattr(self, name)
+            if isinstance(z, bool) or not isinstance(z, (int, float, complex, np.number)):
+                raise InputError(f"{name}: expected an impedance in ohm, got {z!r}")
+            z = complex(z)
+            open_load = name == "rl" and math.isinf(z.real) and z.real > 0 and z.imag == 0
+            if not open_load and not (math.isfinite(z.real) and math.isfinite(z.imag) and z.real >= 0):
+                raise InputError(f"{name}: expected an impedance with a real part >= 0 ohm, got {z}")
         for name in ("rdeg", "rfb"):
             v = getattr(self, name)
             if v is not None and not (math.isfinite(v) and v >= 0):
@@ -274,8 +282,7 @@ def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] 
         :data:`RESULTS` (magnitudes, NaN where they do not exist), ``region`` (int8 codes into
         :data:`devmodels.dcbias.REGIONS`; code 3 for a negative C_pi) and ``beta`` used.
     """
-    from .analysis import stability_arrays, terminate_arrays
-    from .conversions import convert
+    from .analysis import stability_arrays_y, terminate_arrays_y
 
     beta_ref = np.asarray(beta_ref, dtype=float)
     temp = np.asarray(temp, dtype=float)
@@ -320,9 +327,8 @@ def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] 
     stage = Stage(model, setup.config, rdeg=pick(res.get("rdeg", 0.0)), rfb=None if rfb is None else pick(rfb))
     # the same netlist and engine as a frequency sweep, with the samples as the points
     y = config_y(stage.indefinite_block(2 * math.pi * setup.freq, count), setup.config)
-    abcd = convert(y, "y", "abcd")
-    term = terminate_arrays(abcd, setup.rs, setup.rl)
-    st = stability_arrays(convert(y, "y", "s", setup.z0))
+    term = terminate_arrays_y(y, setup.rs, setup.rl)
+    st = stability_arrays_y(y, setup.z0)
     sel = slice(None) if every else ok
     for name in ("av", "avs", "ai", "zin", "zout"):
         out[name][sel] = np.abs(term[name])

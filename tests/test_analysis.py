@@ -267,13 +267,71 @@ def test_terminate_configs_equals_one_stage_at_a_time(extras):
 
     m = dm.HybridPi.from_bias(dm.BipolarBias(ic=2e-3, vce=5.0, beta=120, va=60.0, ft=400e6,
                                              cmu=1.5e-12, rb=40.0))
-    f = np.logspace(2, 10, BLOCK + 77)
+    f = np.logspace(2, 10, 3 * BLOCK + 77)  # three blocks or more: the threaded path
     for rl in (1e3, np.inf):
         fused = terminate_configs(dm.Stage(m, "ce", **extras), ("ce", "cb", "cc"), f, 75.0, rl, z0=50.0)
         for c in ("ce", "cb", "cc"):
             ref = terminate(dm.Stage(m, c, **extras).two_port(f), 75.0, rl, 50.0)
             for name in ("av", "avs", "ai", "zin", "zout", "gt_db", "gp_db", "ga_db", "k", "mu",
-                         "mu_prime", "msg_db", "u_db"):
+                         "mu_prime", "msg_db"):
                 np.testing.assert_allclose(getattr(fused[c], name), getattr(ref, name), rtol=1e-12,
                                            equal_nan=True, err_msg=f"{c} {name}")
+            # U: where the configuration's own Mason denominator cancels, the fused path takes
+            # it from the best-conditioned cofactor of the indefinite matrix, terminate() from
+            # the two-port -- equal in exact arithmetic, so equal here to rounding (1e-9 dB is
+            # 2e-10 relative)
+            np.testing.assert_allclose(fused[c].u_db, ref.u_db, rtol=0, atol=1e-9, equal_nan=True,
+                                       err_msg=f"{c} u_db")
             assert fused[c].zl.shape == (f.size,) and fused[c].config == c
+
+
+def test_floating_output_left_open_has_no_solution_and_says_why():
+    # A FET with neither ro nor any drain capacitance, at 0 Hz: the drain node is reached only
+    # by the controlled current source, so with the output open its voltage is undetermined
+    # (the nodal matrix is singular: y22 = YL = 0 and y12 = 0; any nodal-analysis text, from
+    # memory).  The message names the terminations and the reason, not an oscillation.
+    tp = dm.Stage(dm.FetModel(gm=5e-3, cgs=200e-15, cgd=20e-15), "cs").two_port([0.0, 1e3])
+    assert tp.data[0, 1, 1] == 0 and tp.data[0, 0, 1] == 0
+    with pytest.raises(dm.SingularParameterError, match="^rs, rl: .* at 0 Hz: .*DC path") as exc:
+        terminate(tp, 50.0, math.inf)
+    assert "oscillat" not in str(exc.value)
+    # with a load the drain has its DC path and the same network has a solution
+    res = terminate(tp, 50.0, 1e3)
+    assert res.av[0] == pytest.approx(-5e-3 * 1e3, rel=1e-12)  # -gm RL at 0 Hz
+
+
+@pytest.mark.parametrize("z0", [50.0, (50.0, 75.0)])
+def test_y_forms_of_the_invariants_match_the_s_definitions(z0):
+    # Random (passive and active) networks: K, |Delta|, mu, mu', MAG/MSG and U from the Y forms
+    # (stability_arrays_y) against the textbook S definitions evaluated on S from scikit-rf
+    # (Network.s with a per-port z0): Rollett 1962, Edwards and Sinsky 1992, Gupta 1992 for U
+    # (all from memory), and scikit-rf's own stability (K) and max_gain.
+    import skrf
+
+    from devmodels.analysis import stability_arrays_y
+
+    rng = np.random.default_rng(11)
+    z = random_twoports(rng, 2000)
+    y = np.linalg.inv(z)
+    z0p = np.broadcast_to(np.asarray(z0, dtype=float), (2,))
+    net = skrf.Network(frequency=skrf.Frequency.from_f(np.arange(1, 2001) * 1e6, unit="hz"),
+                       z=z, z0=np.broadcast_to(z0p, (2000, 2)))
+    s = net.s
+    s11, s12, s21, s22 = s[:, 0, 0], s[:, 0, 1], s[:, 1, 0], s[:, 1, 1]
+    delta = s11 * s22 - s12 * s21
+    k = (1 - abs(s11) ** 2 - abs(s22) ** 2 + abs(delta) ** 2) / (2 * abs(s12 * s21))
+    mu = (1 - abs(s11) ** 2) / (abs(s22 - delta * s11.conj()) + abs(s12 * s21))
+    mu_p = (1 - abs(s22) ** 2) / (abs(s11 - delta * s22.conj()) + abs(s12 * s21))
+    kk = s21 / s12
+    u = abs(kk - 1) ** 2 / (2 * k * abs(kk) - 2 * kk.real)
+    st = stability_arrays_y(y, z0)
+    np.testing.assert_allclose(st["k"], k, rtol=1e-8)
+    np.testing.assert_allclose(st["k"], net.stability, rtol=1e-8)
+    np.testing.assert_allclose(st["delta"], abs(delta), rtol=1e-9)
+    np.testing.assert_allclose(st["mu"], mu, rtol=1e-8, atol=1e-12)
+    np.testing.assert_allclose(st["mu_prime"], mu_p, rtol=1e-8, atol=1e-12)
+    np.testing.assert_allclose(st["msg_db"], 10 * np.log10(net.max_gain), atol=1e-8)
+    ok = u > 0
+    assert ok.sum() > 100 and (~ok).sum() >= 5  # both signs of U occur
+    np.testing.assert_allclose(st["u_db"][ok], 10 * np.log10(u[ok]), atol=1e-7)
+    assert np.all(np.isnan(st["u_db"][~ok]))  # U <= 0 has no dB value

@@ -171,3 +171,19 @@ def test_no_nan_in_reported_statistics():
     assert res.stats["zout"] is None   # ro infinite: open output, reported as missing
     for st in res.stats.values():
         assert st is None or all(math.isfinite(v) for v in st.values())
+
+
+def test_complex_terminations_match_the_scalar_analysis():
+    # A complex source and load (50+j10, 1k-j200): each sample against analysis.terminate of
+    # the same stage built alone.
+    setup = SpreadSetup(config="ce", freq=2e6, rs=50 + 10j, rl=1e3 - 200j, ic=1e-3, vce=5.0, **FULL)
+    beta = np.array([90.0, 250.0])
+    temp = np.array([280.0, 330.0])
+    got = evaluate(setup, beta, temp)
+    for k in range(2):
+        m = dm.HybridPi.from_bias(dm.BipolarBias(ic=1e-3, vce=5.0, beta=float(got["beta"][k]), temp=temp[k], **FULL))
+        t = terminate(dm.Stage(m, "ce").two_port([2e6]), 50 + 10j, 1e3 - 200j)
+        assert got["avs"][k] == pytest.approx(abs(t.avs[0]), rel=1e-9)
+        assert got["gt_db"][k] == pytest.approx(t.gt_db[0], abs=1e-9)
+    with pytest.raises(dm.InputError, match="^rs: expected an impedance with a real part >= 0"):
+        SpreadSetup(config="ce", rs=-5 + 1j, ic=1e-3, vce=5.0)
