@@ -1,33 +1,8 @@
 r"""Field-effect transistors: the small-signal model (bias points are in :mod:`devmodels.fetbias`).
 
-MOSFET (``nmos``, ``pmos``) in saturation, with the convention
-
-.. math::
-    I_D = \frac{k_n}{2} V_{ov}^2,\qquad k_n = \mu C_{ox} W/L,\qquad V_{ov} = V_{GS} - V_t,
-
-so that (Sedra and Smith, *Microelectronic Circuits*, MOSFET chapter; Razavi, *Design of
-Analog CMOS Integrated Circuits*, ch. 2; both from memory)
-
-.. math::
-    g_m = \frac{2 I_D}{V_{ov}} = \sqrt{2 k_n I_D} = k_n V_{ov},\qquad
-    r_o = \frac{1}{\lambda I_D},\qquad
-    g_{mb} = \frac{\gamma\, g_m}{2\sqrt{2\phi_F + V_{SB}}} .
-
-No ``lambda``: ro infinite.  No ``gamma``: no body effect (gmb = 0).  The surface
-potential :math:`2\phi_F` defaults to 0.7 V (common practice, no source).
-
-JFET (``njfet``, ``pjfet``), Shockley's square law (Shockley, "A unipolar field-effect
-transistor", Proc. IRE 40, 1952; the forms below are in Sedra and Smith, JFET section,
-from memory):
-
-.. math::
-    I_D = I_{DSS}\left(1 - \frac{V_{GS}}{V_P}\right)^2,\qquad
-    g_m = \frac{2 I_{DSS}}{|V_P|}\left(1 - \frac{V_{GS}}{V_P}\right)
-        = \frac{2}{|V_P|}\sqrt{I_D I_{DSS}},
-
-and the overdrive :math:`V_{ov} = |V_{GS} - V_P| = |V_P|\sqrt{I_D/I_{DSS}}`, so
-:math:`g_m = 2 I_D / V_{ov}` holds for both families.  Saturation needs
-:math:`|V_{DS}| \ge V_{ov}` for both.
+The element values come from a bias point by the square laws written in
+:mod:`devmodels.fetbias` (MOSFET: gm = 2 ID / Vov, ro = 1/(lambda ID),
+gmb = gamma gm / (2 sqrt(2 phi_F + VSB)); JFET: gm = (2/|VP|) sqrt(ID IDSS)).
 
 Small-signal model (node order g, d, s; the body b of a MOSFET is at AC ground, which
 in a stage is the common terminal of the configuration): gate resistance ``rg`` in

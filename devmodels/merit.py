@@ -19,13 +19,36 @@ one call, the first grid interval where it falls through the level is taken, and
 interval is refined a few times on small logarithmic grids (a short loop over refinements,
 not over frequencies).  A figure that is not reached inside the range is ``None``.
 
-Beside the bandwidth, the Miller estimate of a common-emitter (common-source) stage (Sedra and Smith,
-*Microelectronic Circuits*, ch. on frequency response; Gray and Meyer, ch. 7, from memory):
+With coupling and bypass capacitors the response also falls at low frequencies, so
+``bandwidth`` is measured against the mid-band gain (:meth:`devmodels.stage.Stage.midband`:
+every coupling and bypass capacitor shorted, the device capacitances left out; for a stage
+without them that is its gain at 0 Hz) and searched upward from a mid-band point of the
+response; :mod:`devmodels.band` gives the low corner and the time-constant estimates.
+
+Beside the bandwidth, the Miller estimate of a common-emitter (common-source) stage (Sedra and
+Smith, *Microelectronic Circuits*, ch. on frequency response; Gray, Hurst, Lewis and Meyer,
+*Analysis and Design of Analog Integrated Circuits*, ch. 7; Miller's theorem; from memory).
+With the input node x (b', g') driven by a unit voltage at mid-band, every element of the
+device's netlist enters the resistive solution: the emitter (source) node e' sits on
+:math:`R_E` = ``rex`` (``rsx``) plus any external emitter resistance that is not bypassed,
+the collector (drain) node c' on :math:`R_C = r_{cx} + (R_L \parallel R_{C,ext})`
+(``rcx``, ``rdx``), with ``ro`` from c' to e', ``r_mu`` from x to c', ``gm`` and (FET, body at
+AC ground) ``gmb``.  Kirchhoff's current law at e' and c' gives their voltages
+:math:`A_e = v_{e'}/v_x` and :math:`K = v_{c'}/v_x` (a 2 by 2 solve).  Each capacitance from
+x to a node at gain A is seen at x multiplied by 1 - A, and each conductance likewise:
 
 .. math::
-    f_{-3dB} \approx \frac{1}{2\pi R\,C_{in}},\quad
-    C_{in} = C_\pi + C_\mu (1 + g_m R_L'),\quad R_L' = r_o \parallel R_L,\quad
-    R = (R_s + r_b) \parallel r_\pi .
+    C_{in} = C_\pi (1 - A_e) + C_\mu (1 - K),\qquad
+    G_x = (1 - A_e)/r_\pi + (1 - K)/r_\mu,\qquad
+    f_{-3dB} \approx \frac{1}{2\pi\,[(R_s' + r_b) \parallel (1/G_x)]\,C_{in}},
+
+:math:`R_s'` the source resistance in parallel with the base (gate) bias resistors.  Without
+``rex``, ``rcx`` and ``r_mu``, :math:`A_e = 0`, :math:`K = -g_m (r_o \parallel R_L)` and
+this is the textbook :math:`C_{in} = C_\pi + C_\mu (1 + g_m R_L')`,
+:math:`R = (R_s + r_b) \parallel r_\pi`.  What it leaves out by construction: the output
+node's capacitances (``cdb``, ``csb``; the second pole) and the zero of the feedback
+capacitance; :mod:`devmodels.band` has the open-circuit time-constant estimate, which
+includes every capacitance.
 """
 
 from __future__ import annotations
@@ -36,7 +59,7 @@ from typing import Callable
 
 import numpy as np
 
-from .analysis import stability_arrays, terminate_arrays
+from .analysis import stability_arrays
 from .exceptions import InputError, SingularParameterError
 from .stage import Stage
 
@@ -45,8 +68,9 @@ __all__ = ["FrequencyFigures", "frequency_figures", "crossing", "miller_bandwidt
 
 #: Points of the coarse logarithmic grid of a search.
 GRID_POINTS = 241
-#: Points and rounds of the refinement of the bracketing interval.
-_REFINE_POINTS, _REFINE_ROUNDS = 33, 4
+#: Points of each refinement of the bracketing interval, the most rounds, and the relative
+#: width of the interval (in ln f) at which refinement stops (before the final interpolation).
+_REFINE_POINTS, _REFINE_ROUNDS, _REFINE_WIDTH = 33, 10, 1e-12
 
 
 @dataclass(frozen=True, slots=True)
@@ -59,12 +83,15 @@ class FrequencyFigures:
         Beta cut-off, transition frequency and maximum frequency of oscillation of the
         device, in Hz.
     bandwidth : float or None
-        -3 dB frequency of the terminated voltage gain avs of the stage, in Hz.
+        The high -3 dB corner of the terminated voltage gain avs of the stage, in Hz: where
+        |avs| falls to |midband_avs|/sqrt 2 above mid-band.
     miller : float or None
-        Miller estimate of ``bandwidth`` in Hz (common emitter with a hybrid-pi model and no
-        external resistors only).
+        Miller estimate of ``bandwidth`` in Hz (common emitter / common source without a
+        feedback resistor or collector-feedback bias, with a model that has
+        ``miller_parts``; module docstring).
     avs0 : complex
-        Low-frequency (0 Hz) terminated voltage gain the bandwidth is measured against.
+        The mid-band terminated voltage gain the corners are measured against (for a stage
+        without coupling or bypass capacitors, its gain at 0 Hz).
     h21_0 : float or None
         |h21| of the bare CE device at 0 Hz (the low-frequency beta).
     f_range : (float, float)
@@ -75,6 +102,18 @@ class FrequencyFigures:
         h21 of the bare CE device.
     u_db : float ndarray (N,)
         Mason's U in dB (NaN where it does not exist).
+    midband_avs : complex or None
+        The same as ``avs0`` (the key of the output layers).
+    f_low : float or None
+        The low -3 dB corner in Hz (None without coupling or bypass capacitors, or below the
+        range); :class:`devmodels.band.BandEdges`.
+    f_low_sctc : float or None
+        Short-circuit time-constant estimate of ``f_low`` in Hz.
+    bandwidth_octc : float or None
+        Open-circuit time-constant estimate of ``bandwidth`` in Hz.
+    low_terms, high_terms : tuple of devmodels.band.TimeConstant
+        The terms of the two estimates (name, capacitance F, resistance ohm, time constant s),
+        the largest share of the estimate first.
     """
 
     f_beta: float | None
@@ -88,6 +127,12 @@ class FrequencyFigures:
     freq: np.ndarray
     h21: np.ndarray
     u_db: np.ndarray
+    midband_avs: complex | None = None
+    f_low: float | None = None
+    f_low_sctc: float | None = None
+    bandwidth_octc: float | None = None
+    low_terms: tuple = ()
+    high_terms: tuple = ()
 
     @property
     def miller_error(self) -> float | None:
@@ -97,15 +142,27 @@ class FrequencyFigures:
         return self.miller / self.bandwidth - 1.0
 
     def as_dict(self) -> dict:
-        """The scalar figures (Hz) as a dict, for output layers."""
+        """The scalar figures as a dict, for output layers (Hz; ``midband_avs`` complex)."""
         return {"f_beta": self.f_beta, "ft": self.ft, "fmax": self.fmax, "bandwidth": self.bandwidth,
                 "bandwidth_miller": self.miller, "miller_error": self.miller_error,
+                "midband_avs": self.midband_avs, "f_low": self.f_low, "f_low_sctc": self.f_low_sctc,
+                "bandwidth_octc": self.bandwidth_octc,
                 "f_start": self.f_range[0], "f_stop": self.f_range[1]}
 
 
 def crossing(fn: Callable[[np.ndarray], np.ndarray], level: float, f_lo: float, f_hi: float,
-             points: int = GRID_POINTS) -> float | None:
-    """First frequency in [f_lo, f_hi] where ``fn`` falls from above ``level`` to it or below.
+             points: int = GRID_POINTS, *, rising: bool = False) -> float | None:
+    """The frequency in [f_lo, f_hi] where ``fn`` crosses ``level``, by a bracketed search.
+
+    Falling (default): the first frequency, going up from ``f_lo``, where ``fn`` falls from
+    above the level to it or below.  Rising: the last frequency below ``f_hi`` where ``fn``
+    rises from the level or below to above it (the same search, going down from ``f_hi``):
+    the low corner of a band whose mid-band point is ``f_hi``.
+
+    The quantity is evaluated on a logarithmic grid in one call; the first grid interval
+    (walking from the start) where it crosses is refined on small logarithmic grids until it
+    is 1e-12 wide in ln f (a short loop over refinements, not over frequencies), and the
+    crossing is interpolated linearly in ln f inside it.
 
     Parameters
     ----------
@@ -118,42 +175,53 @@ def crossing(fn: Callable[[np.ndarray], np.ndarray], level: float, f_lo: float, 
         Search range in Hz, 0 < f_lo < f_hi.
     points : int
         Points of the coarse logarithmic grid.
+    rising : bool
+        Search for a rising crossing, nearest ``f_hi``.
 
     Returns
     -------
     float or None
-        The frequency in Hz (interpolated linearly in log f within the last refined
-        interval), or None when ``fn`` is not above the level at ``f_lo`` or does not
-        reach it by ``f_hi``.
+        The frequency in Hz, or None when ``fn`` is not above the level at the start of the
+        walk (``f_lo``; ``f_hi`` when rising) or does not reach it by its end.
     """
     if not (0 < f_lo < f_hi) or not (math.isfinite(f_lo) and math.isfinite(f_hi)):
         raise InputError(f"range: expected 0 < start < stop, got {f_lo:g} Hz and {f_hi:g} Hz")
 
     def first_below(grid):
+        up = grid[0] <= grid[-1]  # fn always sees increasing frequencies
         with np.errstate(invalid="ignore"):
-            below = np.asarray(fn(grid), dtype=float) <= level
+            values = np.asarray(fn(grid if up else grid[::-1]), dtype=float)
+            below = (values if up else values[::-1]) <= level
         idx = np.flatnonzero(below)
         return None if idx.size == 0 else int(idx[0])
 
-    grid = np.geomspace(f_lo, f_hi, points)
+    grid = np.geomspace(f_hi, f_lo, points) if rising else np.geomspace(f_lo, f_hi, points)
     i = first_below(grid)
     if i is None or i == 0:
         return None
-    a, b = grid[i - 1], grid[i]
+    a, b = grid[i - 1], grid[i]  # fn(a) above the level, fn(b) at or below it
     for _ in range(_REFINE_ROUNDS):
+        if abs(math.log(b / a)) <= _REFINE_WIDTH:
+            break
         sub = np.geomspace(a, b, _REFINE_POINTS)
         j = first_below(sub)
         if j is None or j == 0:  # not monotonic inside the interval: keep what we have
             break
         a, b = sub[j - 1], sub[j]
-    ya, yb = (float(v) for v in fn(np.array([a, b])))
+    ya, yb = (float(v) for v in (fn(np.array([a, b])) if a < b else fn(np.array([b, a]))[::-1]))
     if not (math.isfinite(ya) and math.isfinite(yb)) or ya == yb:
         return float(math.sqrt(a * b))
     t = min(max((ya - level) / (ya - yb), 0.0), 1.0)
     return float(math.exp(math.log(a) + t * (math.log(b) - math.log(a))))
 
 
-def miller_bandwidth(model, rs: float, rl: float) -> float | None:
+def _conductance(r: float) -> float:
+    """1/r for a resistance in ohm (0 for an infinite one, inf for 0)."""
+    return math.inf if r == 0 else 1.0 / r
+
+
+def miller_bandwidth(model, rs: float, rl: float, *, r_emitter: float = 0.0, r_bias: float = math.inf,
+                     r_collector: float = math.inf) -> float | None:
     """Miller estimate of the CE (CS) -3 dB frequency in Hz (module docstring).
 
     Parameters
@@ -161,22 +229,62 @@ def miller_bandwidth(model, rs: float, rl: float) -> float | None:
     model : device model
         Its :meth:`miller_parts` give gm, the input shunt resistance (r_pi; infinite for a
         FET), the series input resistance (rb; rg), the input and feedback capacitances
-        (C_pi, C_mu; Cgs, Cgd) and ro.
+        (C_pi, C_mu; Cgs, Cgd) and ro; its netlist gives ``rex``, ``rcx`` and ``r_mu``
+        (``rsx``, ``rdx`` and ``gmb``) where present.
     rs : float
         Source resistance in ohm (the real part of a complex source impedance).
     rl : float
         Load resistance in ohm (``math.inf`` for an open load).
+    r_emitter : float
+        External resistance from the emitter (source) terminal to AC ground at high
+        frequency in ohm (``rdeg``, the unbypassed part of a network's ``re``); 0: none.
+    r_bias : float
+        The bias resistors at the base (gate) to AC ground, in parallel, in ohm (``inf``: none).
+    r_collector : float
+        External resistor from the collector (drain) to AC ground in ohm, in parallel with
+        ``rl`` (``inf``: none).
 
     Returns
     -------
     float or None
-        None when the model has no capacitance.
+        None when the model has no ``miller_parts`` or no capacitance, or the estimate has no
+        finite positive value (an open load on an ideal current-source output).
     """
-    p = model.miller_parts()
-    rl_par = _parallel(p["ro"], rl)
-    c_in = p["c_in"] + p["c_fb"] * (1.0 + p["gm"] * rl_par)
-    r = _parallel(rs + p["r_series"], p["r_shunt"])
-    if c_in <= 0 or r <= 0 or not math.isfinite(c_in * r):
+    parts = getattr(model, "miller_parts", None)
+    if parts is None:
+        return None
+    p = parts()
+    values = model.netlist().values()
+    fet = "gmb" in getattr(model, "element_names", ()) or "rsx" in getattr(model, "element_names", ())
+    r_e = float(values.get("rsx" if fet else "rex", 0.0)) + r_emitter
+    r_c = float(values.get("rdx" if fet else "rcx", 0.0)) + _parallel(r_collector, rl)
+    gmb = float(values.get("gmb", 0.0)) if fet else 0.0
+    g_mu = 0.0 if fet else _conductance(float(values.get("r_mu", math.inf)))
+    gm, g_pi, g_o = p["gm"], _conductance(p["r_shunt"]), _conductance(p["ro"])
+    g_e, g_c = _conductance(r_e), _conductance(r_c)
+    # KCL with v_x = 1 (module docstring):
+    #   e': a_e (G_E + g_pi + g_o + gm + gmb) - k g_o = g_pi + gm
+    #   c': -a_e (g_o + gm + gmb) + k (G_C + g_o + g_mu) = g_mu - gm
+    if math.isinf(g_c):
+        k = 0.0
+        a_e = 0.0 if math.isinf(g_e) else (g_pi + gm) / (g_e + g_pi + g_o + gm + gmb)
+    elif math.isinf(g_e):
+        a_e = 0.0
+        d = g_c + g_o + g_mu
+        if d == 0:
+            return None
+        k = (g_mu - gm) / d
+    else:
+        m11, m12, r1 = g_e + g_pi + g_o + gm + gmb, -g_o, g_pi + gm
+        m21, m22, r2 = -(g_o + gm + gmb), g_c + g_o + g_mu, g_mu - gm
+        det = m11 * m22 - m12 * m21
+        if det == 0:
+            return None
+        a_e, k = (r1 * m22 - m12 * r2) / det, (m11 * r2 - m21 * r1) / det
+    c_in = p["c_in"] * (1.0 - a_e) + p["c_fb"] * (1.0 - k)
+    g_x = g_pi * (1.0 - a_e) + g_mu * (1.0 - k)
+    r = _parallel(_parallel(rs, r_bias) + p["r_series"], math.inf if g_x == 0 else 1.0 / g_x)
+    if not (c_in > 0 and r > 0 and math.isfinite(c_in * r)):
         return None
     return 1.0 / (2 * math.pi * r * c_in)
 
@@ -191,7 +299,10 @@ def _parallel(a: float, b: float) -> float:
 
 def bandwidth(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1e3,
               points: int = GRID_POINTS) -> tuple[float | None, complex]:
-    """-3 dB frequency (Hz, or None) of the terminated |avs| of ``stage``, and avs at 0 Hz.
+    """High -3 dB corner (Hz, or None) of the terminated |avs| of ``stage``, and the mid-band avs.
+
+    The corner is where |avs| falls to |midband avs|/sqrt 2, going up from the mid-band
+    point of the response (:func:`devmodels.band.band_edges`, which has the rules).
 
     Parameters
     ----------
@@ -204,13 +315,32 @@ def bandwidth(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1e3,
     points : int
         Points of the coarse logarithmic grid.
     """
+    from .band import avs_function, midband_avs, pass_band
 
-    def avs(f):
-        return terminate_arrays(stage.two_port(f, "abcd").data, zs, zl)["avs"]
+    mid = midband_avs(stage, zs, zl)
+    _, f_high, _, _ = pass_band(avs_function(stage, zs, zl), mid, f_start, f_stop, points, low=False)
+    return f_high, mid
 
-    avs0 = complex(avs(np.array([0.0]))[0])
-    bw = crossing(lambda f: np.abs(avs(f)), abs(avs0) / math.sqrt(2), f_start, f_stop, points)
-    return bw, avs0
+
+def _miller_for(stage: Stage, zs, zl) -> float | None:
+    """The Miller estimate of ``stage`` where it applies (:class:`FrequencyFigures`), else None."""
+    model = stage.model
+    if stage.config != model.configs[0] or stage.rfb is not None:
+        return None
+    if np.ndim(stage.rdeg):
+        return None
+    net = stage.network
+    r_emitter, r_bias, r_coll = float(stage.rdeg), math.inf, math.inf
+    if net is not None:
+        if net.bias == "collector-feedback":
+            return None
+        r_bias = {"divider": lambda: _parallel(net.r1, net.r2), "fixed": lambda: net.rb,
+                  "none": lambda: math.inf}[net.bias]()
+        r_coll = net.rc if net.rc > 0 else math.inf
+        r_emitter += net.re - net.bypassed
+    zl_c = complex(zl)
+    return miller_bandwidth(model, complex(zs).real, math.inf if math.isinf(zl_c.real) else zl_c.real,
+                            r_emitter=r_emitter, r_bias=r_bias, r_collector=r_coll)
 
 
 def frequency_figures(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1e3,
@@ -220,7 +350,7 @@ def frequency_figures(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1
     Parameters
     ----------
     stage : Stage
-        The stage (model, configuration, external resistors).
+        The stage (model, configuration, external resistors, network).
     f_start, f_stop : float
         Search range in Hz, 0 < f_start < f_stop.
     zs, zl : complex
@@ -228,6 +358,8 @@ def frequency_figures(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1
     points : int
         Points of the coarse logarithmic grid (also the grid of ``freq``, ``h21``, ``u_db``).
     """
+    from .band import band_edges
+
     if not (0 < f_start < f_stop):
         raise InputError(f"start: expected 0 < start < stop, got {f_start:g} Hz and {f_stop:g} Hz")
     bare = Stage(stage.model)  # the first configuration: common emitter (source)
@@ -246,13 +378,10 @@ def frequency_figures(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1
                                               points)
     ft = crossing(lambda f: np.abs(h21(f)), 1.0, f_start, f_stop, points)
     fmax = crossing(u_db, 0.0, f_start, f_stop, points)
-    bw, avs0 = bandwidth(stage, f_start, f_stop, zs, zl, points)
-    miller = None
-    if stage.config == stage.model.configs[0] and not stage.rdeg and stage.rfb is None:
-        zl_c = complex(zl)
-        miller = miller_bandwidth(stage.model, complex(zs).real,
-                                  math.inf if math.isinf(zl_c.real) else zl_c.real)
+    band = band_edges(stage, zs, zl, f_start, f_stop, points)
     grid = np.geomspace(f_start, f_stop, points)
-    return FrequencyFigures(f_beta=f_beta, ft=ft, fmax=fmax, bandwidth=bw, miller=miller,
-                            avs0=avs0, h21_0=h0, f_range=(float(f_start), float(f_stop)),
-                            freq=grid, h21=h21(grid), u_db=u_db(grid))
+    return FrequencyFigures(f_beta=f_beta, ft=ft, fmax=fmax, bandwidth=band.f_high, miller=_miller_for(stage, zs, zl),
+                            avs0=band.midband_avs, h21_0=h0, f_range=(float(f_start), float(f_stop)),
+                            freq=grid, h21=h21(grid), u_db=u_db(grid), midband_avs=band.midband_avs,
+                            f_low=band.f_low, f_low_sctc=band.f_low_sctc, bandwidth_octc=band.bandwidth_octc,
+                            low_terms=band.low_terms, high_terms=band.high_terms)

@@ -82,10 +82,19 @@ def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
         ax.tick_params(axis="x", labelsize=8)
     axes.flat[0].legend(fontsize=7, loc="upper right", frameon=False)
     s, r = result.setup, result.ranges
-    rl = "open" if math.isinf(s.rl) else f"{s.rl:g} Ω"
-    fig.suptitle(f"{s.config.upper()} stage at {s.freq:g} Hz, Rs = {s.rs:g} Ω, RL = {rl}: "
-                 f"{result.samples:,} samples (seed {result.seed}); beta {r.beta_min:g}..{r.beta_max:g}, "
-                 f"T {r.temp_min:.1f}..{r.temp_max:.1f} K, resistors ±{r.tol * 100:g} %\n"
+    from .units import format_si
+
+    def imp(z) -> str:
+        z = complex(z)
+        if math.isinf(z.real):
+            return "open"
+        if z.imag == 0:
+            return format_si(z.real, "Ω")
+        return f"{format_si(z.real, 'Ω')} {'+' if z.imag >= 0 else '-'} j{format_si(abs(z.imag), 'Ω')}"
+
+    fig.suptitle(f"{s.config.upper()} stage at {format_si(s.freq, 'Hz')}, Rs = {imp(s.rs)}, RL = {imp(s.rl)}: "
+                 f"{result.samples:,} samples (seed {result.seed})\nbeta {r.beta_min:g}..{r.beta_max:g}, "
+                 f"T {r.temp_min:.1f}..{r.temp_max:.1f} K, resistors ±{r.tol * 100:g} %; "
                  "dashed: median; dotted: 5th and 95th percentiles; triangles: corners (all low, all high)",
                  fontsize=9)
     fig.tight_layout()
