@@ -82,7 +82,25 @@ def _format_rows(table: np.ndarray, sep: str = " ") -> str:
     return (line * n) % tuple(table.ravel().tolist())
 
 
-def _table(freq: np.ndarray | None, data: np.ndarray, polar: bool, order, scale=None) -> np.ndarray:
+def number_format(polar) -> str:
+    """The number format of a table: ``"RI"``, ``"MA"`` or ``"DB"``.
+
+    Parameters
+    ----------
+    polar : bool or str
+        False or ``"ri"``: real and imaginary parts; True or ``"ma"``: magnitude and angle in
+        degrees; ``"db"``: magnitude in dB (20 log10 |x|) and angle in degrees (the three
+        formats of the Touchstone specification).
+    """
+    if isinstance(polar, str):
+        fmt = polar.strip().upper()
+        if fmt not in ("RI", "MA", "DB"):
+            raise InputError(f"format: expected ri, ma or db, got {polar!r}")
+        return fmt
+    return "MA" if polar else "RI"
+
+
+def _table(freq: np.ndarray | None, data: np.ndarray, polar, order, scale=None) -> np.ndarray:
     """(n, 9) (or (n, 8) without ``freq``) real table of one block of points.
 
     Columns: frequency, then re/im (or magnitude/angle in degrees) of the elements in
@@ -95,7 +113,14 @@ def _table(freq: np.ndarray | None, data: np.ndarray, polar: bool, order, scale=
     out = np.empty((vals.shape[0], 8 + first))
     if freq is not None:
         out[:, 0] = freq
-    if polar:
+    fmt = number_format(polar)
+    if fmt == "DB":
+        mag = np.abs(vals)
+        if np.any(mag == 0):
+            raise InputError("format: a parameter is exactly 0, which has no dB value; write ri or ma")
+        out[:, first::2] = 20.0 * np.log10(mag)
+        out[:, first + 1::2] = np.angle(vals, deg=True)
+    elif fmt == "MA":
         out[:, first::2] = np.abs(vals)
         out[:, first + 1::2] = np.angle(vals, deg=True)
     else:
@@ -135,7 +160,7 @@ def _touchstone_parts(tp: TwoPort, version: str, polar: bool, comment: str):
     f = tp.freq
     if f.size > 1 and not np.all(f[1:] > f[:-1]):
         raise InputError("freq: Touchstone needs strictly increasing frequencies")
-    fmt = "MA" if polar else "RI"
+    fmt = number_format(polar)
     head = [f"! {line}" for line in comment.splitlines()] if comment else []
     z1, z2 = tp.z0
     if version == "1.1":
@@ -164,7 +189,7 @@ def touchstone_chunks(tp: TwoPort, version: str = "1.1", polar: bool = False, co
         With frequencies (Hz, strictly increasing) and data of a Touchstone kind.
     version : {'1.1', '2.0'}
         Touchstone version.
-    polar : bool
+    polar : bool or str
         Magnitude/angle in degrees (``MA``) instead of real/imaginary (``RI``).
     comment : str
         Comment lines for the top of the file.
@@ -197,7 +222,7 @@ def touchstone_text(tp: TwoPort, version: str = "1.1", polar: bool = False, comm
         With frequencies (Hz, increasing) and data of a Touchstone kind.
     version : {'1.1', '2.0'}
         Touchstone version.
-    polar : bool
+    polar : bool or str
         Magnitude/angle (``MA``, angle in degrees) instead of real/imaginary (``RI``).
     comment : str
         Comment lines to put at the top (each prefixed with ``!``).
@@ -212,30 +237,36 @@ def touchstone_text(tp: TwoPort, version: str = "1.1", polar: bool = False, comm
     return "".join(touchstone_chunks(tp, version, polar, comment))
 
 
-def _csv_head(tp: TwoPort, polar: bool) -> str:
+def _csv_head(tp: TwoPort, polar, comment: str = "") -> str:
     names = ("A", "B", "C", "D") if tp.kind == "abcd" else tuple(f"{tp.kind}{n}" for n in ("11", "12", "21", "22"))
     head = ["freq [Hz]"]
+    fmt = number_format(polar)
     for n, u in zip(names, _UNITS[tp.kind]):
-        head += [f"mag {n} [{u}]", f"ang {n} [deg]"] if polar else [f"re {n} [{u}]", f"im {n} [{u}]"]
+        head += {"MA": [f"mag {n} [{u}]", f"ang {n} [deg]"], "DB": [f"db {n} [dB]", f"ang {n} [deg]"],
+                 "RI": [f"re {n} [{u}]", f"im {n} [{u}]"]}[fmt]
     ref = f"z0 = {tp.z0[0]:g} ohm" if tp.z0[0] == tp.z0[1] else f"z0 = {tp.z0[0]:g} / {tp.z0[1]:g} ohm"
     note = f"# devmodels: {tp.config.upper() + ' ' if tp.config else ''}{tp.kind.upper()} parameters"
     note += f", {ref}\n" if tp.kind == "s" else "\n"
-    return note + ",".join(head) + "\n"
+    extra = "".join(f"# {line}\n" for line in comment.splitlines()) if comment else ""
+    return note + extra + ",".join(head) + "\n"
 
 
-def csv_chunks(tp: TwoPort, polar: bool = False, block: int = BLOCK) -> Iterator[str]:
+def csv_chunks(tp: TwoPort, polar: bool = False, block: int = BLOCK, comment: str = "") -> Iterator[str]:
     """The CSV text of ``tp`` as blocks of at most ``block`` lines (see :func:`csv_text`).
 
     Parameters
     ----------
     tp : TwoPort
         Any kind; frequencies in Hz or none (one frequency-independent point).
-    polar : bool
+    polar : bool or str
         Magnitude and angle in degrees instead of real and imaginary parts.
     block : int
         Frequencies (lines) per block.
+    comment : str
+        Lines written as ``# ...`` comments under the first header line (what the file holds:
+        device, bias point, network, configuration).
     """
-    head = _csv_head(tp, polar)
+    head = _csv_head(tp, polar, comment)
 
     def gen() -> Iterator[str]:
         yield head
@@ -247,15 +278,24 @@ def csv_chunks(tp: TwoPort, polar: bool = False, block: int = BLOCK) -> Iterator
     return gen()
 
 
-def csv_text(tp: TwoPort, polar: bool = False) -> str:
+def csv_text(tp: TwoPort, polar: bool = False, comment: str = "") -> str:
     """CSV of ``tp``: frequency in Hz, then two columns per element with units in the header.
 
     Real/imaginary columns (``re y11 [S]``, ``im y11 [S]``) or, with ``polar``,
-    magnitude and angle in degrees (``mag y11 [S]``, ``ang y11 [deg]``).
-    Frequency-independent parameters have an empty frequency column header ``freq [Hz]``
-    with the value left empty.
+    magnitude and angle in degrees (``mag y11 [S]``, ``ang y11 [deg]``), or with ``"db"``
+    the magnitude in dB (``db y11 [dB]``).  Frequency-independent parameters have an empty
+    frequency column header ``freq [Hz]`` with the value left empty.
+
+    Parameters
+    ----------
+    tp : TwoPort
+        The parameters.
+    polar : bool or str
+        The number format (:func:`number_format`).
+    comment : str
+        Lines written as ``# ...`` comments under the first header line.
     """
-    return "".join(csv_chunks(tp, polar))
+    return "".join(csv_chunks(tp, polar, comment=comment))
 
 
 def _points(tp: TwoPort, start: int, stop: int) -> list[dict]:
@@ -358,7 +398,7 @@ def write_touchstone(tp: TwoPort, path, version: str = "1.1", polar: bool = Fals
         Output file.
     version : {'1.1', '2.0'}
         Touchstone version.
-    polar : bool
+    polar : bool or str
         Magnitude/angle (``MA``) instead of real/imaginary (``RI``).
     comment : str
         Comment lines for the top of the file.
@@ -375,7 +415,7 @@ def write_touchstone(tp: TwoPort, path, version: str = "1.1", polar: bool = Fals
     return atomic_write_chunks(path, touchstone_chunks(tp, version, polar, comment), option=option)
 
 
-def write_csv(tp: TwoPort, path, polar: bool = False, *, option: str = "out") -> Path:
+def write_csv(tp: TwoPort, path, polar: bool = False, *, option: str = "out", comment: str = "") -> Path:
     """Write ``tp`` as CSV (see :func:`csv_text`), block by block.
 
     Parameters
@@ -384,17 +424,19 @@ def write_csv(tp: TwoPort, path, polar: bool = False, *, option: str = "out") ->
         The parameters.
     path : str or Path
         Output file.
-    polar : bool
+    polar : bool or str
         Magnitude and angle in degrees instead of real and imaginary parts.
     option : str
         Option name that starts an error message.
+    comment : str
+        Lines written as ``# ...`` comments under the first header line.
 
     Raises
     ------
     OutputError
         The file cannot be written (message starting with ``option``).
     """
-    return atomic_write_chunks(path, csv_chunks(tp, polar), option=option)
+    return atomic_write_chunks(path, csv_chunks(tp, polar, comment=comment), option=option)
 
 
 def write_by_extension(tp: TwoPort, path, polar: bool = False, version: str | None = None,

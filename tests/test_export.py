@@ -219,3 +219,32 @@ def test_writers_replace_a_symlink_and_keep_a_mode(tmp_path, y_ce):
     write_csv(y_ce, link.with_suffix(".csv"))
     write_touchstone(y_ce.to("s"), link, polar=True)
     assert os.stat(link).st_mode & 0o777 == 0o600
+
+
+def test_touchstone_db_format_read_back_by_scikit_rf_and_by_devmodels(tmp_path):
+    # The DB format of the Touchstone specification (20 log10 |x| and angle in degrees):
+    # scikit-rf's reader and devmodels' own reader get the same S back.
+    skrf = pytest.importorskip("skrf")
+    from devmodels.export import write_touchstone
+    from devmodels.touchstone import read_touchstone
+
+    m = dm.HybridPi(gm=0.04, r_pi=2.5e3, ro=50e3, c_pi=10e-12, c_mu=1e-12, rb=60.0)
+    tp = dm.Stage(m, "ce").two_port(np.geomspace(1e6, 1e9, 7), "s")
+    path = write_touchstone(tp, tmp_path / "db.s2p", polar="db", comment="CE stage\nbias: invented")
+    text = path.read_text()
+    assert "# Hz S DB R 50" in text and "! bias: invented" in text
+    np.testing.assert_allclose(skrf.Network(str(path)).s, tp.data, rtol=1e-12)
+    np.testing.assert_allclose(read_touchstone(path).data, tp.data, rtol=1e-12)
+
+
+def test_csv_db_columns_and_comment():
+    from devmodels.export import csv_text
+
+    tp = dm.TwoPort(np.array([1e6]), np.array([[[0.5, 0.01], [10.0, 0.25j]]]), "s")
+    text = csv_text(tp, "db")  # through the chunked writer's head
+    head = text.splitlines()[1]
+    assert head.startswith("freq [Hz],db s11 [dB],ang s11 [deg]")
+    row = [float(x) for x in text.splitlines()[2].split(",")]
+    assert row[1] == pytest.approx(20 * np.log10(0.5), abs=1e-12) and row[5] == pytest.approx(20.0, abs=1e-12)
+    with pytest.raises(dm.InputError, match="^format: expected ri, ma or db"):
+        csv_text(tp, "xy")
