@@ -7,11 +7,11 @@ not a forward-active bias point.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Literal
 
 from .exceptions import BiasError, InputError
-from .validate import check_number as _finite, p_type_magnitudes
+from .validate import check_number as _finite, meta, p_type_magnitudes
 
 __all__ = ["BipolarBias", "DEFAULT_VCE_SAT", "DEFAULT_TEMP"]
 
@@ -55,19 +55,25 @@ class BipolarBias:
         VCE below which the point is taken to be saturated, in V.
     """
 
-    ic: float
-    vce: float
-    beta: float
+    ic: float = field(metadata=meta("A", "Collector current, A (e.g. 1mA).", 1e-15, 100.0))
+    vce: float = field(metadata=meta("V", "Collector-emitter voltage, V (e.g. 5V).", 1e-6, 1e4))
+    beta: float = field(metadata=meta("", "Current gain hFE (hfe) at the bias point.", 1e-3, 1e6, zero=False))
     device: Literal["npn", "pnp"] = "npn"
-    va: float | None = None
-    ft: float | None = None
-    cmu: float = 0.0
-    rb: float = 0.0
-    temp: float = DEFAULT_TEMP
-    rmu: float | None = None
-    rcx: float = 0.0
-    rex: float = 0.0
-    vce_sat: float = DEFAULT_VCE_SAT
+    va: float | None = field(default=None, metadata=meta(
+        "V", "Early voltage, V (default: none, ro infinite).", 1e-3, 1e6, zero=False))
+    ft: float | None = field(default=None, metadata=meta(
+        "Hz", "Transition frequency fT, Hz (e.g. 300MHz) (default: none, no C_pi).", 1.0, 1e13, zero=False))
+    cmu: float = field(default=0.0, metadata=meta(
+        "F", "Collector-base capacitance C_mu (datasheet Cob), F (default 0).", 1e-18, 1.0))
+    rb: float = field(default=0.0, metadata=meta("Ohm", "Base spreading resistance, ohm (default 0).", 1e-6, 1e12))
+    temp: float = field(default=DEFAULT_TEMP, metadata=meta(
+        "K", "Junction temperature, K (300, 300K) or Celsius (27C) (default 300 K).", 1.0, 1000.0, zero=False))
+    rmu: float | None = field(default=None, metadata=meta(
+        "Ohm", "Collector-base resistance r_mu, ohm (default: none).", 1e-3, 1e18, zero=False))
+    rcx: float = field(default=0.0, metadata=meta("Ohm", "Collector ohmic resistance, ohm (default 0).", 1e-6, 1e12))
+    rex: float = field(default=0.0, metadata=meta("Ohm", "Emitter ohmic resistance, ohm (default 0).", 1e-6, 1e12))
+    vce_sat: float = field(default=DEFAULT_VCE_SAT, metadata=meta(
+        "V", "VCE below which the point counts as saturated, V (default 0.3 V).", 1e-6, 100.0))
 
     def __post_init__(self) -> None:
         if self.device not in ("npn", "pnp"):

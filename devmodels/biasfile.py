@@ -9,81 +9,154 @@ Example::
     beta = 250
     temp = "27C"
 
-Values may be numbers (SI units) or strings with SI prefixes and units.  Tables
-(``[network]``, ``[terminations]``, ...) are returned as they are for the commands
-that use them.
+Values may be numbers (SI units) or strings with SI prefixes and units.  The accepted keys
+and tables are those of :mod:`devmodels.schema` (one description for files and options).
+The reader refuses what it cannot mean: an unknown key or table (with the nearest valid
+name), the same key written twice (``vce_sat`` and ``vce-sat``), a value of the wrong type
+(``beta = {a = 1}``), tables nested deeper than a bias file needs, and anything that is
+not a regular file (a FIFO would block).  A UTF-8 byte-order mark is accepted.
 """
 
 from __future__ import annotations
 
+import os
+import stat
 from pathlib import Path
 
 from .exceptions import FileFormatError
 
-__all__ = ["load_bias_file", "FLAT_KEYS"]
+__all__ = ["load_bias_file", "MAX_BYTES"]
 
-#: Top-level keys accepted in a bias file, with their unit ('' dimensionless, 'T' temperature,
-#: 'str' text).  Other modules add theirs with :func:`register_keys`.
-FLAT_KEYS: dict[str, str] = {
-    "device": "str",
-    "ic": "A",
-    "vce": "V",
-    "beta": "",
-    "va": "V",
-    "ft": "Hz",
-    "cmu": "F",
-    "rb": "Ohm",
-    "temp": "T",
-    "rmu": "Ohm",
-    "rcx": "Ohm",
-    "rex": "Ohm",
-    "vce_sat": "V",
-    "rdeg": "Ohm",
-    "rfb": "Ohm",
-    "z0": "str",
-    "description": "str",
-}
+#: Largest bias file read, bytes (a bias file is a few hundred bytes).
+MAX_BYTES = 1 << 20
 
 
-def register_keys(keys: dict[str, str]) -> None:
-    """Accept more top-level keys (used by modules that add device kinds or analyses)."""
-    FLAT_KEYS.update(keys)
+def _where(p: Path) -> str:
+    from .units import SHOWN_CHARS
+
+    s = str(p)
+    return s if len(s) <= SHOWN_CHARS else s[:SHOWN_CHARS - 24] + "\u2026" + s[-12:]
+
+
+def _read(p: Path) -> str:
+    where = _where(p)
+    try:
+        st = os.stat(p)
+    except OSError as exc:
+        raise FileFormatError(f"{where}: cannot read the bias file ({exc.strerror or exc})") from None
+    if stat.S_ISDIR(st.st_mode):
+        raise FileFormatError(f"{where}: is a directory, not a bias file")
+    if not stat.S_ISREG(st.st_mode):
+        raise FileFormatError(f"{where}: not a regular file (a pipe, a device or a socket); give a TOML file")
+    if st.st_size > MAX_BYTES:
+        raise FileFormatError(f"{where}: {st.st_size:,} bytes is too large for a bias file "
+                              f"(at most {MAX_BYTES:,})")
+    try:
+        with open(p, "rb") as fh:
+            raw = fh.read(MAX_BYTES + 1)
+    except OSError as exc:
+        raise FileFormatError(f"{where}: cannot read the bias file ({exc.strerror or exc})") from None
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise FileFormatError(f"{where}: not UTF-8 text at byte {exc.start}; a bias file is a TOML text "
+                              "file") from None
+
+
+def _normalised(doc: dict, where: str, context: str) -> dict:
+    """Keys with ``-`` read as ``_``; two spellings of one key are an error."""
+    out: dict = {}
+    seen: dict[str, str] = {}
+    for key, value in doc.items():
+        k = key.replace("-", "_")
+        if k in seen:
+            raise FileFormatError(f"{where}: {seen[k]!r} and {key!r}{context} are the same key; keep one")
+        seen[k] = key
+        out[k] = value
+    return out
 
 
 def load_bias_file(path: str | Path) -> tuple[dict, dict]:
-    """Read a TOML bias file.
+    """Read and check a TOML bias file.
+
+    Parameters
+    ----------
+    path : str or Path
+        The file (a regular file of at most :data:`MAX_BYTES`, UTF-8, a byte-order mark allowed).
 
     Returns
     -------
     flat : dict
-        Top-level scalar keys, raw (numbers or strings) as written.
-    tables : dict
-        Top-level tables, as written.
+        Top-level keys (``-`` read as ``_``), raw values (numbers or strings) as written.
+    tables : dict of str -> dict
+        The tables (``network``), their keys normalised the same way.
 
     Raises
     ------
     FileFormatError
-        The file cannot be read, is not valid TOML, or has an unknown top-level key.
+        The file cannot be read, is not a regular file, is not valid TOML, or holds an unknown,
+        repeated or mistyped key or table.
     """
     import tomllib  # only when a file is read (keeps `import devmodels` light)
 
+    from .schema import TABLES, flat_keys, nearest, table_keys
+    from .units import type_name
+
     p = Path(path)
+    where = _where(p)
+    text = _read(p)
     try:
-        raw = p.read_bytes()
-    except OSError as exc:
-        raise FileFormatError(f"{p}: cannot read the bias file ({exc.strerror})") from None
-    try:
-        doc = tomllib.loads(raw.decode("utf-8"))
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
-        raise FileFormatError(f"{p}: not a valid TOML bias file ({exc})") from None
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise FileFormatError(f"{where}: not a valid TOML bias file ({exc})") from None
+    except RecursionError:
+        raise FileFormatError(f"{where}: values nested too deeply for a bias file") from None
+    doc = _normalised(doc, where, "")
+    known = flat_keys()
     flat, tables = {}, {}
     for key, value in doc.items():
-        if isinstance(value, dict):
-            tables[key] = value
+        if key in TABLES:
+            if not isinstance(value, dict):
+                raise FileFormatError(f"{where}: {key}: expected a table [{key}], got {type_name(value)}")
+            tables[key] = _table(value, key, where)
             continue
-        k = key.replace("-", "_")
-        if k not in FLAT_KEYS:
-            raise FileFormatError(
-                f"{p}: unknown key {key!r}; expected one of {', '.join(sorted(FLAT_KEYS))}")
-        flat[k] = value
+        if key not in known:
+            if isinstance(value, dict):
+                near = nearest(key, TABLES)
+                raise FileFormatError(f"{where}: unknown table [{key}]"
+                                      + (f"; did you mean [{near}]?" if near else
+                                         f"; expected {', '.join(f'[{t}]' for t in TABLES)}"))
+            near = nearest(key, known)
+            raise FileFormatError(f"{where}: unknown key {key!r}" + (f"; did you mean {near!r}?" if near else
+                                  "; see the option names of 'devmodels model --help'"))
+        flat[key] = _scalar(key, value, known[key].unit, where)
     return flat, tables
+
+
+def _scalar(key: str, value, unit: str, where: str):
+    from .units import type_name
+
+    if isinstance(value, bool) or isinstance(value, (dict, list)) or not isinstance(value, (str, int, float)):
+        want = "text" if unit == "str" else "a number or a quantity as text (\"1mA\")"
+        raise FileFormatError(f"{where}: {key}: expected {want}, got {type_name(value)}")
+    if unit == "str" and not isinstance(value, str):
+        raise FileFormatError(f"{where}: {key}: expected text, got {type_name(value)}")
+    return value
+
+
+def _table(value: dict, name: str, where: str) -> dict:
+    from .schema import nearest, table_keys
+
+    value = _normalised(value, where, f" in [{name}]")
+    known = table_keys(name)
+    out = {}
+    for k, v in value.items():
+        if k not in known:
+            if isinstance(v, dict):
+                raise FileFormatError(f"{where}: [{name}.{k}]: tables inside [{name}] are not used; "
+                                      f"expected keys {', '.join(known)}")
+            near = nearest(k, known)
+            raise FileFormatError(f"{where}: unknown key {k!r} in [{name}]"
+                                  + (f"; did you mean {near!r}?" if near else f"; expected one of {', '.join(known)}"))
+        out[k] = _scalar(k, v, known[k].unit, where)
+    return out

@@ -69,7 +69,7 @@ from .bias import DEFAULT_VCE_SAT, BipolarBias
 from .exceptions import BiasError, InputError
 from .temperature import BETA_TC_DEFAULT, T_REF, VBE_DEFAULT, VBE_TC_DEFAULT, beta_at, vbe_at
 from .units import format_si
-from .validate import check_number
+from .validate import check_number, meta
 
 __all__ = ["NetworkKind", "NETWORK_KINDS", "REGIONS", "BiasNetwork", "OperatingPoint", "solve_arrays",
            "operating_point"]
@@ -106,14 +106,19 @@ class BiasNetwork:
         Resistor tolerance as a fraction (0.05 for 5 %), the same for every resistor.
     """
 
-    kind: NetworkKind
-    vcc: float
-    rc: float = 0.0
-    re: float = 0.0
-    rb: float | None = None
-    r1: float | None = None
-    r2: float | None = None
-    tol: float = 0.0
+    kind: NetworkKind = field(metadata=meta(
+        "str", "Bias network: fixed, divider or collector-feedback.", 0.0, 0.0, key="type"))
+    vcc: float = field(metadata=meta("V", "Supply voltage, V (a pnp may take it negative).", 1e-3, 1e5, zero=False))
+    rc: float = field(default=0.0, metadata=meta("Ohm", "Collector resistor, ohm (default 0).", 1e-6, 1e15))
+    re: float = field(default=0.0, metadata=meta("Ohm", "Emitter resistor, ohm (default 0).", 1e-6, 1e15))
+    rb: float | None = field(default=None, metadata=meta(
+        "Ohm", "Base resistor, ohm: from VCC (fixed) or from the collector (collector-feedback).", 1e-6, 1e15))
+    r1: float | None = field(default=None, metadata=meta(
+        "Ohm", "Divider resistor from VCC to the base, ohm.", 1e-6, 1e15))
+    r2: float | None = field(default=None, metadata=meta(
+        "Ohm", "Divider resistor from the base to ground, ohm.", 1e-6, 1e15))
+    tol: float = field(default=0.0, metadata=meta(
+        "%", "Resistor tolerance, % (e.g. 5).", 1e-9, 99.999999))
 
     def __post_init__(self) -> None:
         if self.kind not in NETWORK_KINDS:

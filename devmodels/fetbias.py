@@ -39,12 +39,11 @@ from d' to s', Csb (s'-b), Cdb (d'-b), drain and source ohmic resistances ``rdx`
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Literal
 
-from .biasfile import register_keys
 from .exceptions import BiasError, InputError
-from .validate import check_number as _num, p_type_magnitudes
+from .validate import check_number as _num, meta, p_type_magnitudes
 
 __all__ = ["MosfetBias", "JfetBias", "FET_DEVICES", "DEFAULT_SURFACE_POTENTIAL"]
 
@@ -52,12 +51,6 @@ __all__ = ["MosfetBias", "JfetBias", "FET_DEVICES", "DEFAULT_SURFACE_POTENTIAL"]
 FET_DEVICES: tuple[str, ...] = ("nmos", "pmos", "njfet", "pjfet")
 #: Default surface potential 2 phi_F in V (common practice, no source: 0.6 V to 0.8 V is usual).
 DEFAULT_SURFACE_POTENTIAL = 0.7
-
-
-# Bias-file keys of FETs (option names without dashes; 'lambda' is the channel-length modulation).
-register_keys({"id": "A", "vds": "V", "vov": "V", "kn": "A/V2", "lambda": "1/V", "gamma": "V0.5",
-               "vsb": "V", "two_phi_f": "V", "cgs": "F", "cgd": "F", "csb": "F", "cdb": "F", "idss": "A",
-               "vp": "V", "rg": "Ohm"})
 
 
 def _check_common(obj, device_set: tuple[str, ...], family: str) -> None:
@@ -117,20 +110,25 @@ class MosfetBias:
         Gate resistance in ohm.
     """
 
-    id: float
-    vds: float
+    id: float = field(metadata=meta("A", "Drain current, A (e.g. 2mA).", 1e-15, 100.0))
+    vds: float = field(metadata=meta("V", "Drain-source voltage, V (at least the overdrive).", 1e-6, 1e4))
     device: Literal["nmos", "pmos"] = "nmos"
-    vov: float | None = None
-    kn: float | None = None
-    lambda_: float | None = None
-    gamma: float | None = None
-    vsb: float = 0.0
-    two_phi_f: float = DEFAULT_SURFACE_POTENTIAL
-    cgs: float = 0.0
-    cgd: float = 0.0
-    csb: float = 0.0
-    cdb: float = 0.0
-    rg: float = 0.0
+    vov: float | None = field(default=None, metadata=meta(
+        "V", "MOSFET overdrive |VGS| - |Vt|, V (or give --kn).", 1e-6, 100.0, zero=False))
+    kn: float | None = field(default=None, metadata=meta(
+        "A/V2", "MOSFET transconductance parameter mu Cox W/L, A/V^2, with ID = (kn/2) Vov^2.", 1e-12, 1e4, zero=False))
+    lambda_: float | None = field(default=None, metadata=meta(
+        "1/V", "Channel-length modulation, 1/V (default: none, ro infinite).", 1e-9, 1e3, key="lambda", zero=False))
+    gamma: float | None = field(default=None, metadata=meta(
+        "V0.5", "MOSFET body-effect coefficient, V^0.5 (default: none, no body effect).", 1e-6, 100.0))
+    vsb: float = field(default=0.0, metadata=meta("V", "MOSFET source-body voltage, V (default 0).", 1e-9, 1e4))
+    two_phi_f: float = field(default=DEFAULT_SURFACE_POTENTIAL, metadata=meta(
+        "V", "MOSFET surface potential 2 phi_F (twice the Fermi potential), V (default 0.7 V).", 1e-3, 10.0))
+    cgs: float = field(default=0.0, metadata=meta("F", "Gate-source capacitance, F (default 0).", 1e-18, 1.0))
+    cgd: float = field(default=0.0, metadata=meta("F", "Gate-drain capacitance, F (default 0).", 1e-18, 1.0))
+    csb: float = field(default=0.0, metadata=meta("F", "Source-body capacitance, F (default 0).", 1e-18, 1.0))
+    cdb: float = field(default=0.0, metadata=meta("F", "Drain-body capacitance, F (default 0).", 1e-18, 1.0))
+    rg: float = field(default=0.0, metadata=meta("Ohm", "Gate resistance, ohm (default 0).", 1e-6, 1e12))
 
     def __post_init__(self) -> None:
         _check_common(self, ("nmos", "pmos"), "MOSFET")
@@ -182,17 +180,19 @@ class JfetBias:
         Gate resistance in ohm.
     """
 
-    id: float
-    vds: float
-    idss: float
-    vp: float
+    id: float = field(metadata=meta("A", "Drain current, A (e.g. 2mA).", 1e-15, 100.0))
+    vds: float = field(metadata=meta("V", "Drain-source voltage, V (at least the overdrive).", 1e-6, 1e4))
+    idss: float = field(metadata=meta("A", "JFET drain current at VGS = 0, A.", 1e-15, 100.0, zero=False))
+    vp: float = field(metadata=meta(
+        "V", "JFET pinch-off voltage, V (e.g. -2V for an n-channel).", 1e-3, 1e3, zero=False))
     device: Literal["njfet", "pjfet"] = "njfet"
-    lambda_: float | None = None
-    cgs: float = 0.0
-    cgd: float = 0.0
-    csb: float = 0.0
-    cdb: float = 0.0
-    rg: float = 0.0
+    lambda_: float | None = field(default=None, metadata=meta(
+        "1/V", "Channel-length modulation, 1/V (default: none, ro infinite).", 1e-9, 1e3, key="lambda", zero=False))
+    cgs: float = field(default=0.0, metadata=meta("F", "Gate-source capacitance, F (default 0).", 1e-18, 1.0))
+    cgd: float = field(default=0.0, metadata=meta("F", "Gate-drain capacitance, F (default 0).", 1e-18, 1.0))
+    csb: float = field(default=0.0, metadata=meta("F", "Source-body capacitance, F (default 0).", 1e-18, 1.0))
+    cdb: float = field(default=0.0, metadata=meta("F", "Drain-body capacitance, F (default 0).", 1e-18, 1.0))
+    rg: float = field(default=0.0, metadata=meta("Ohm", "Gate resistance, ohm (default 0).", 1e-6, 1e12))
 
     def __post_init__(self) -> None:
         _check_common(self, ("njfet", "pjfet"), "JFET")

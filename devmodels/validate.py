@@ -6,7 +6,7 @@ import math
 
 from .exceptions import BiasError, InputError
 
-__all__ = ["check_number", "p_type_magnitudes"]
+__all__ = ["check_number", "p_type_magnitudes", "meta"]
 
 
 def check_number(name: str, value, unit: str, *, positive: bool = False, nonneg: bool = False,
@@ -67,3 +67,23 @@ def p_type_magnitudes(names: tuple[str, str], device: str, current: float, volta
         raise BiasError(f"{names[0]}, {names[1]}: for a {device} give both as magnitudes or both "
                         f"with the {device}'s sign, got {names[0]}={current:g} A, {names[1]}={voltage:g} V")
     return current, voltage
+
+
+def meta(unit: str, help: str, lo: float, hi: float, *, zero: bool = True, key: str | None = None) -> dict:
+    """Field metadata of a bias dataclass: the schema of one input (see :mod:`devmodels.schema`).
+
+    Parameters
+    ----------
+    unit : str
+        Unit key of :data:`devmodels.units.UNITS` (``'K'`` a temperature, ``'str'`` text).
+    help : str
+        One line for the option's help and the bias-file documentation.
+    lo, hi : float
+        Physical range of the magnitude in SI units; values outside it are input errors.
+    zero : bool
+        Whether 0 passes the range check (the dataclass still decides what 0 means).
+    key : str, optional
+        The bias-file key and option name when it differs from the field name
+        (``lambda`` for ``lambda_``).
+    """
+    return {"schema": {"unit": unit, "help": help, "lo": lo, "hi": hi, "zero": zero, "key": key}}

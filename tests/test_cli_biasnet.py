@@ -205,7 +205,19 @@ def test_bad_network_files_are_one_line(run, tmp_path, case, cmd):
     text, fname = BAD_NETWORKS[case]
     path = _write(tmp_path, text, fname)
     if cmd == "spread" and case in ("saturated", "cutoff"):
-        pytest.skip("spread reports samples outside the active region instead of failing")
+        # spread counts samples outside the active region instead of failing: every sample lands
+        # in that region, no small-signal result exists (null), and one warning says so.
+        code, out, err = run(cmd, path, "-n", "200", "--seed", "3", "--json")
+        assert code == 0, err
+        d = json.loads(out)
+        region = {"saturated": "saturation", "cutoff": "cutoff"}[case]
+        assert d["regions"][region] == 200 and d["regions"]["active"] == 0
+        assert all(d[k] is None for k in ("av", "avs", "ai", "zin", "zout", "gt_db", "k"))
+        assert d["ic"] is not None and (d["ic"]["max"] == 0) == (case == "cutoff")
+        lines = err.strip().splitlines()
+        said = {"saturated": "200 of 200 samples are in saturation", "cutoff": "and 200 in cutoff"}[case]
+        assert len(lines) == 1 and lines[0].startswith("devmodels: warning: network: ") and said in lines[0]
+        return
     code, out, err = run(cmd, path)
     assert code == 2, err
     assert len(err.strip().splitlines()) == 1 and "Traceback" not in err

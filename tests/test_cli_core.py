@@ -90,7 +90,7 @@ def test_reconfigure_json(run_json):
 def test_crosscheck_command(run_json, run):
     d = run_json("crosscheck", *BIAS, "--rb", "40")
     assert d["max_rel_error"] < d["tolerance"] == 1e-9 and d["checked"] == 90
-    code, out, _ = run("crosscheck", *BIAS, "--tol", "1e-30")
+    code, out, _ = run("crosscheck", *BIAS, "--max-error", "1e-30")
     assert code == 1 and "FAIL" in out
 
 
@@ -124,7 +124,7 @@ ERRORS = [
     (["params"], "bias point"),
     (["reconfigure", "--params", "h=2.6k,2e-4,100,12u", "--from", "ce", "--to", "cs"], "cannot reconfigure"),
     (["reconfigure", "--params", "z=1k,1k,1k,1k", "--from", "ce", "--to", "cb"], "needs the Y parameters"),
-    (["crosscheck", "--ic", "1mA", "--vce", "5", "--beta", "100", "--tol", "-1"], "tol"),
+    (["crosscheck", "--ic", "1mA", "--vce", "5", "--beta", "100", "--max-error", "-1"], "max-error"),
     (["model", "--no-such-option"], "no-such-option"),
 ]
 

@@ -47,7 +47,10 @@ def test_gain_open_load_gives_null_not_nan(run, run_json):
     p = d["points"][0]
     assert d["rl"] is None and p["gt_db"] is None and cx(p["ai"]) == 0
     code, out, err = run("gain", *BIAS, "--rl", "open")
-    assert code == 0 and "nan" not in out.lower() and "inf" not in out.lower() and "none" in out
+    # GT and GP of an open load read "open" (README: a value that does not exist is open/unbounded)
+    assert code == 0 and "nan" not in out.lower() and "inf" not in out.lower() and "none" not in out
+    gt_row = [line for line in out.splitlines() if line.startswith("│ 1 kHz") and "dB" in line][0]
+    assert gt_row.split("│")[2].strip() == "open" and gt_row.split("│")[3].strip() == "open"
 
 
 def test_gain_given_params_is_frequency_independent(run_json):

@@ -1,8 +1,9 @@
-"""The typer application object shared by the command modules."""
+"""The typer application object shared by the command modules, and its command class."""
 
 from __future__ import annotations
 
 import typer
+from typer.core import TyperCommand
 
 app = typer.Typer(
     name="devmodels",
@@ -12,3 +13,19 @@ app = typer.Typer(
          "Values take SI prefixes and units (1mA, 2.2k, 300MHz); --temp is in K unless "
          "written 27C. Port currents flow into the two-port; port 1 is the input.",
 )
+
+
+class Command(TyperCommand):
+    """A command whose flags show no value type in the help (``--json``, not ``--json <bool>``)."""
+
+    def get_params(self, ctx):
+        params = super().get_params(ctx)
+        for p in params:
+            if getattr(p, "is_flag", False) and p.metavar is None:
+                p.metavar = ""
+        return params
+
+
+def command(name: str):
+    """Register a command on :data:`app` (with :class:`Command`)."""
+    return app.command(name, cls=Command)

@@ -2,55 +2,52 @@
 
 from __future__ import annotations
 
+import math
 from typing import Annotated, Optional
 
 import numpy as np
 import typer
 
 from ..exceptions import InputError
-from .app import app
-from .common import (FreqOpt, JsonOpt, ParamsOpt, TouchstoneOpt, Z0Opt, BiasInputs, bias_options, emit_json,
-                     parse_freqs, parse_given, parse_z0, print_table, print_twoport, two_port_input,
-                     twoport_json)
+from .app import command
+from .inputs import Inputs, bias_options, check_config, check_kind, parse_freqs, parse_given, parse_z0, two_port_input
+from .options import ConfigOpt, FreqOpt, JsonOpt, KindOpt, ParamsOpt, PolarOpt, TouchstoneOpt, Z0Opt
+from .render import emit_json, print_table, print_twoport
 
-ConfigOpt = Annotated[str, typer.Option("--config", "-c", help="Configuration: ce, cb, cc (cs, cg, cd for FETs).")]
-KindOpt = Annotated[str, typer.Option("--kind", "-k", help="Parameter kind: y, z, h, g, abcd, s.")]
-PolarOpt = Annotated[bool, typer.Option("--polar", help="Show complex values as magnitude and angle.")]
 
 #: Frequency of a single-point analysis when none is given, Hz.
 DEFAULT_FREQ = 1e3
 
 
-def _check_kind(kind: str) -> str:
-    from ..constants import KINDS
-
-    k = kind.lower()
-    if k not in KINDS:
-        raise InputError(f"kind: unknown parameter kind {kind!r}, expected one of {', '.join(KINDS)}")
-    return k
+def _signed(bias, names: tuple[str, str]) -> tuple[float, float]:
+    """Current and voltage with the device's sign convention (negative for a p-type device),
+    as ``devmodels bias`` reports a pnp."""
+    s = -1.0 if bias.device in ("pnp", "pmos", "pjfet") else 1.0
+    return s * getattr(bias, names[0]) + 0.0, s * getattr(bias, names[1]) + 0.0
 
 
-@app.command("model")
-@bias_options
-def model_cmd(bias_in: BiasInputs, as_json: JsonOpt = False) -> None:
-    """Small-signal element values (hybrid-pi and T model) at a bias point."""
+@command("model")
+@bias_options()
+def model_cmd(bias_in: Inputs, as_json: JsonOpt = False) -> None:
+    """Small-signal element values (hybrid-pi and T model, or the FET model) at a bias point."""
     from ..units import format_si
-    from .fetchain import fet_bias_or_none, print_fet_model
 
-    fet = fet_bias_or_none(bias_in)  # None for a bipolar device
-    if fet is not None:
-        print_fet_model(fet, as_json)
+    if not bias_in.given():
+        raise InputError("bias point: missing; give a bias file or bias options (--ic, --vce, --beta, ...)")
+    bias = bias_in.bias_point()
+    if bias_in.family != "bipolar":
+        from .fetchain import print_fet_model
+
+        print_fet_model(bias, bias_in.model(), as_json)
         return
-    bias = bias_in.bipolar()
-    from ..models import HybridPi
-
-    m = HybridPi.from_bias(bias)
+    m = bias_in.model()
     ro = None if np.isinf(m.ro) else m.ro
+    ic, vce = _signed(bias, ("ic", "vce"))
     out = {
         "gm": m.gm, "r_pi": m.r_pi, "ro": ro, "c_pi": m.c_pi, "c_mu": m.c_mu, "rb": m.rb,
         "re": m.re, "alpha": m.alpha, "beta": bias.beta, "vt": m.vt, "f_beta": m.f_beta, "ft": m.ft,
         "r_mu": None if np.isinf(m.r_mu) else m.r_mu, "rcx": m.rcx, "rex": m.rex,
-        "device": bias.device, "ic": bias.ic, "vce": bias.vce, "temp": bias.temp, "power": bias.power,
+        "device": bias.device, "ic": ic, "vce": vce, "temp": bias.temp, "power": bias.power,
     }
     if as_json:
         emit_json(out)
@@ -73,79 +70,94 @@ def model_cmd(bias_in: BiasInputs, as_json: JsonOpt = False) -> None:
         rows.append(["r_mu", format_si(m.r_mu, "Ω"), "given"])
     if m.rcx or m.rex:
         rows.append(["rcx / rex", f"{format_si(m.rcx, 'Ω')} / {format_si(m.rex, 'Ω')}", "given"])
-    title = (f"Small-signal model: {bias.device}, IC = {format_si(bias.ic, 'A')}, "
-             f"VCE = {format_si(bias.vce, 'V')}, T = {bias.temp:.2f} K, P = {format_si(bias.power, 'W')}")
-    print_table(title, ["element", "value", "relation"], rows)
+    title = (f"Small-signal model: {bias.device}, IC = {format_si(ic, 'A')}, "
+             f"VCE = {format_si(vce, 'V')}, T = {bias.temp:.2f} K, P = {format_si(bias.power, 'W')}")
+    caption = ("pnp: IC and VCE with the pnp sign (as 'devmodels bias' reports them); the small-signal "
+               "model is the same as an npn's." if bias.device == "pnp" else None)
+    print_table(title, ["element", "value", "relation"], rows, caption)
 
 
-@app.command("params")
-@bias_options
-def params_cmd(bias_in: BiasInputs, config: ConfigOpt = "ce", kind: KindOpt = "y",
+@command("params")
+@bias_options()
+def params_cmd(bias_in: Inputs, config: ConfigOpt = None, kind: KindOpt = "y",
                freq: FreqOpt = None, z0: Z0Opt = "50", given: ParamsOpt = None,
                touchstone: TouchstoneOpt = None, polar: PolarOpt = False, as_json: JsonOpt = False) -> None:
     """Two-port parameters of a stage (or of a given two-port) in any kind, at each --freq (default 1 kHz)."""
-    kind = _check_kind(kind)
+    kind = check_kind(kind)
     z0v = parse_z0(z0)
     tp = two_port_input(bias_in, given, touchstone, config, parse_freqs(freq), z0v, DEFAULT_FREQ).to(kind, z0v)
     if as_json:
-        emit_json(twoport_json(tp))
+        emit_json(_twoport_json(tp))
     else:
         print_twoport(tp, polar)
 
 
-@app.command("reconfigure")
+def _twoport_json(tp) -> dict:
+    """The JSON object of ``params``/``sweep``/``reconfigure`` (the library's params dict)."""
+    from ..export import twoport_dict
+
+    return twoport_dict(tp)
+
+
+@command("reconfigure")
 def reconfigure_cmd(
-    given: Annotated[str, typer.Option("--params", help="The device as KIND=v11,v12,v21,v22 in the --from configuration.")],
-    from_: Annotated[str, typer.Option("--from", help="Configuration the parameters are given in (ce, cb, cc, cs, cg, cd).")],
-    to: Annotated[str, typer.Option("--to", help="Configuration wanted.")],
+    given: Annotated[str, typer.Option("--params", help="The device as KIND=v11,v12,v21,v22 in the --from "
+                                       "configuration.", metavar="KIND=V11,V12,V21,V22")],
+    from_: Annotated[str, typer.Option("--from", help="Configuration the parameters are given in "
+                                       "(ce, cb, cc, cs, cg, cd).", metavar="CONFIG")],
+    to: Annotated[str, typer.Option("--to", help="Configuration wanted.", metavar="CONFIG")],
     kind: Annotated[Optional[str], typer.Option("--kind", "-k", help="Kind of the result (default: the given kind).",
-                                                show_default=False)] = None,
+                                                show_default=False, metavar="KIND")] = None,
     freq: FreqOpt = None, z0: Z0Opt = "50", polar: PolarOpt = False, as_json: JsonOpt = False,
 ) -> None:
     """A three-terminal device given in one configuration, returned in another."""
-    from ..configs import check_config, reconfigure
+    from ..configs import reconfigure
 
     z0v = parse_z0(z0)
-    src = check_config(from_.lower())
-    dst = check_config(to.lower())
+    src = check_config(from_)
+    dst = check_config(to)
     tp = parse_given(given, z0v, parse_freqs(freq), src)
-    out = reconfigure(tp, src, dst, _check_kind(kind) if kind else None)
+    out = reconfigure(tp, src, dst, check_kind(kind) if kind else None)
     if as_json:
-        emit_json(twoport_json(out))
+        emit_json(_twoport_json(out))
     else:
         print_twoport(out, polar)
 
 
-@app.command("crosscheck")
-@bias_options
+@command("crosscheck")
+@bias_options()
 def crosscheck_cmd(
-    bias_in: BiasInputs,
+    bias_in: Inputs,
     config: Annotated[Optional[list[str]], typer.Option(
-        "--config", "-c", help="Configuration(s) to check; repeatable (default: ce, cb, cc).",
-        show_default=False)] = None,
+        "--config", "-c", help="Configuration(s) to check; repeatable (default: every configuration of the device).",
+        show_default=False, metavar="CONFIG")] = None,
     freq: FreqOpt = None, z0: Z0Opt = "50", given: ParamsOpt = None, touchstone: TouchstoneOpt = None,
-    tol: Annotated[str, typer.Option("--tol", help="Largest acceptable relative deviation.")] = "1e-9",
+    max_error: Annotated[str, typer.Option(
+        "--max-error", help="Largest acceptable relative deviation (JSON key 'tolerance').",
+        metavar="NUMBER")] = "1e-9",
     as_json: JsonOpt = False,
 ) -> None:
-    """Recompute every conversion with scikit-rf; exit 1 if the worst deviation is above --tol."""
-    from ..verify import crosscheck
+    """Recompute every conversion with scikit-rf; exit 1 if the worst deviation is above --max-error."""
     from ..units import parse_quantity
+    from ..verify import crosscheck
 
-    tolerance = parse_quantity(tol, "", "tol")
-    if tolerance <= 0:
-        raise InputError(f"tol: expected a positive tolerance, got {tol}")
+    tolerance = parse_quantity(max_error, "", "max-error")
+    if not 0 < tolerance < 1:
+        raise InputError(f"max-error: expected a relative deviation between 0 and 1, got {max_error}")
     z0v = parse_z0(z0)
     from_device = given is None and touchstone is None
     f = parse_freqs(freq, default=list(np.logspace(3, 10, 15))) if from_device else parse_freqs(freq)
     if config:
-        configs = [c.lower() for c in config]
+        configs = [check_config(c) for c in config]
     elif not from_device:
         configs = ["ce"]
     else:
-        from ..fet import is_fet_model
-
-        configs = ["cs", "cg", "cd"] if is_fet_model(bias_in.model()) else ["ce", "cb", "cc"]
+        if not bias_in.given():
+            raise InputError("bias point: missing; give a bias file, bias options (--ic, --vce, --beta, ...), "
+                             "--params or --touchstone")
+        configs = list(bias_in.configs())
     results = {}
+    n_points = 0
     for c in configs:
         tp = two_port_input(bias_in, given, touchstone, c, f, z0v, DEFAULT_FREQ)
         results[c] = crosscheck(tp, tolerance)
@@ -165,9 +177,9 @@ def crosscheck_cmd(
         rows = []
         for c, r in results.items():
             pair = "->".join(r.worst) if r.worst else "—"
-            rows.append([c, f"{r.max_rel_error:.3g}", pair, str(r.checked),
-                         ", ".join(r.skipped) if r.skipped else "—", "pass" if r.ok else "FAIL"])
-        print_table(f"Conversions against scikit-rf (tolerance {tolerance:g})",
+            rows.append([c, f"{r.max_rel_error:.3g}" if math.isfinite(r.max_rel_error) else "unbounded", pair,
+                         str(r.checked), ", ".join(r.skipped) if r.skipped else "—", "pass" if r.ok else "FAIL"])
+        print_table(f"Conversions against scikit-rf (largest accepted deviation {tolerance:g})",
                     ["config", "worst deviation", "worst pair", "pairs", "kinds that do not exist", "result"], rows)
     if not ok:
         raise typer.Exit(1)

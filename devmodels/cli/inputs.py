@@ -1,0 +1,499 @@
+"""The input layer of the command line: options made from the schema, one merge, typed parsers.
+
+- :func:`bias_options` adds the bias-file argument and the options of a chosen set of schema
+  keys (:mod:`devmodels.schema`) to a command; the command receives one :class:`Inputs`.
+- :class:`Inputs` merges the file and the options once (:func:`devmodels.schema.merge`: an
+  option overrides the file) and builds the library's own input objects from the result:
+  ``BipolarBias`` / ``MosfetBias`` / ``JfetBias``, ``BiasNetwork`` and its operating point,
+  the device model, the ``Stage`` (with ``rdeg`` / ``rfb``), the spread's setup.
+- The parsers of the other options (frequencies, z0, terminations, given parameters,
+  counts) are here too, each a thin wrapper of the one parser in :mod:`devmodels.units`.
+"""
+
+from __future__ import annotations
+
+import functools
+import inspect
+from pathlib import Path
+from typing import Annotated, Any, Callable, Optional
+
+import numpy as np
+import typer
+
+from ..exceptions import InputError
+from ..schema import FAMILY, FREQ, IMPEDANCE, MAX_POINTS, PANELS, Z0, Key, keys, merge
+from ..units import UNITS, Bounds, check_bounds, parse_complex, parse_count, parse_impedance, parse_quantity, shown
+from .render import warn
+
+__all__ = ["Inputs", "bias_options", "MODEL_KEYS", "SPREAD_KEYS", "BIAS_KEYS", "parse_freqs", "parse_freq",
+           "parse_z0", "parse_given", "terminations", "parse_points", "two_port_input", "check_kind",
+           "check_config"]
+
+
+# --- which keys each command takes --------------------------------------------------------------
+def MODEL_KEYS(k: Key) -> bool:
+    """Bias-point commands: the device, bipolar and FET values, the stage, the ratings."""
+    return k.table is None and k.panel in ("device", "bipolar", "fet", "stage", "rating") and k.name != "description"
+
+
+def SPREAD_KEYS(k: Key) -> bool:
+    """spread: a bipolar stage and the limits it is spread over."""
+    return (k.table is None and k.name != "description" and k.family in (None, "bipolar")
+            and k.panel in ("device", "bipolar", "stage", "rating", "spread", "network"))
+
+
+def BIAS_KEYS(k: Key) -> bool:
+    """bias: the network, the transistor's DC values, the ratings."""
+    return k.table == "network" or k.name in ("tol", "device", "temp", "beta", "vce_sat", "pmax", "vceo", "vbe",
+                                              "vbe_tc", "beta_tc")
+
+
+def _metavar(k: Key) -> str:
+    if k.choices:
+        return "|".join(k.choices) if len(k.choices) <= 3 else k.name.upper()
+    if k.unit == "K":
+        return "KELVIN|27C"
+    if k.unit == "str":
+        return "TEXT"
+    return UNITS[k.unit].metavar
+
+
+@functools.lru_cache(maxsize=None)
+def _parameter(kid: str) -> inspect.Parameter:
+    k = keys()[kid]
+    return inspect.Parameter(
+        k.param, inspect.Parameter.KEYWORD_ONLY, default=None,
+        annotation=Annotated[Optional[str], typer.Option(k.flag, help=k.help, rich_help_panel=PANELS[k.panel],
+                                                         show_default=False, metavar=_metavar(k))])
+
+
+@functools.lru_cache(maxsize=None)
+def _file_parameter(help_: str) -> inspect.Parameter:
+    return inspect.Parameter(
+        "bias_file", inspect.Parameter.POSITIONAL_OR_KEYWORD, default=None,
+        annotation=Annotated[Optional[Path], typer.Argument(help=help_, show_default=False, metavar="BIAS_FILE")])
+
+
+FILE_HELP = "TOML bias file; its top-level keys are the option names (ic = \"1mA\"); options override it."
+
+
+def bias_options(select: Callable[[Key], bool] = MODEL_KEYS, file_help: str = FILE_HELP) -> Callable:
+    """Add the bias-file argument and the options of the schema keys ``select`` picks to a command.
+
+    The command receives them as one ``bias_in: Inputs`` argument.  The option parameters are
+    made once and shared by every command (start-up time).
+    """
+    chosen = tuple(k.id for k in keys().values() if select(k))
+
+    def deco(func: Callable) -> Callable:
+        import typing
+
+        sig = inspect.signature(func)
+        hints = typing.get_type_hints(func, include_extras=True)
+        own = [p.replace(annotation=hints.get(p.name, p.annotation), kind=inspect.Parameter.KEYWORD_ONLY)
+               for p in sig.parameters.values() if p.name != "bias_in"]
+        extra = [_parameter(kid) for kid in chosen]
+
+        @functools.wraps(func)
+        def wrapper(*args, **kwargs):
+            opts = {kid: kwargs.pop(keys()[kid].param, None) for kid in chosen}
+            kwargs["bias_in"] = Inputs(kwargs.pop("bias_file", None), opts)
+            return func(*args, **kwargs)
+
+        wrapper.__signature__ = sig.replace(parameters=[_file_parameter(file_help)] + own + extra)
+        return wrapper
+
+    return deco
+
+
+# --- the merged inputs --------------------------------------------------------------------------
+_FET_HINT = {"ic": " (give --id)", "vce": " (give --vds)"}
+
+
+class Inputs:
+    """Bias values from a file and from options, merged once into SI values.
+
+    Parameters
+    ----------
+    file : Path or None
+        The bias file.
+    options : dict of key id -> text or None
+        Options as typed on the command line.
+    """
+
+    def __init__(self, file: Path | None = None, options: dict[str, Any] | None = None) -> None:
+        from ..biasfile import load_bias_file
+
+        self.file = file
+        self.options = {k: v for k, v in (options or {}).items() if v is not None}
+        self.flat, self.tables = load_bias_file(file) if file is not None else ({}, {})
+        notes: list[str] = []
+        self.values = merge(self.options, self.flat, self.tables, warnings=notes)
+        for w in notes:
+            warn(w)
+        self._model = None
+        self._bias = None
+
+    # -- raw access ---------------------------------------------------------------------------
+    def given(self) -> bool:
+        """True when any bias value was given at all."""
+        return bool(self.options) or bool(self.flat) or bool(self.tables)
+
+    def get(self, kid: str, default=None):
+        v = self.values.get(kid)
+        return default if v is None else v
+
+    def require(self, kid: str, what: str):
+        v = self.values.get(kid)
+        if v is None:
+            k = keys()[kid]
+            where = f"'{k.name}' in the bias file" if k.table is None else f"'{k.name}' in its [{k.table}] table"
+            raise InputError(f"{k.name}: missing; give {k.flag} or {where} ({what})")
+        return v
+
+    @property
+    def device(self) -> str:
+        return self.get("device", "npn")
+
+    @property
+    def family(self) -> str:
+        """``bipolar``, ``mosfet`` or ``jfet``: which bias dataclass the device takes."""
+        return FAMILY[self.device]
+
+    def has_network(self) -> bool:
+        return "network" in self.tables
+
+    def _check_family(self) -> None:
+        fam = self.family
+        for kid in self.values:
+            k = keys()[kid]
+            if k.family is None or k.family == fam or (k.family == "fet" and fam in ("mosfet", "jfet")):
+                continue
+            if fam == "bipolar":
+                raise InputError(f"{k.name}: a FET option, but the device is {self.device}"
+                                 f"{' (the default)' if 'device' not in self.values else ''}; "
+                                 "give --device nmos, pmos, njfet or pjfet for a FET")
+            what = {"bipolar": "bipolar", "mosfet": "MOSFET", "jfet": "JFET", "fet": "FET"}[k.family]
+            raise InputError(f"{k.name}: a {what} option, not used for a {self.device}{_FET_HINT.get(k.name, '')}")
+
+    def _fields(self, cls, skip=()) -> dict:
+        import dataclasses
+
+        out = {}
+        for f in dataclasses.fields(cls):
+            m = f.metadata.get("schema")
+            if m is None or f.name in skip:
+                continue
+            v = self.values.get(m["key"] or f.name)
+            if v is not None:
+                out[f.name] = v
+        return out
+
+    # -- library objects ------------------------------------------------------------------------
+    def ratings(self) -> tuple[float | None, float | None]:
+        """The ratings pmax (W) and vceo (V), None where not given."""
+        from ..validate import check_number
+
+        return (check_number("pmax", self.get("pmax"), "W", positive=True, optional=True),
+                check_number("vceo", self.get("vceo"), "V", positive=True, optional=True))
+
+    def network(self):
+        """The :class:`~devmodels.dcbias.BiasNetwork` of the inputs, or None without one."""
+        from ..dcbias import BiasNetwork
+
+        net = {k.split(".", 1)[1]: v for k, v in self.values.items() if k.startswith("network.")}
+        if not net and not self.has_network():
+            return None
+        kind = net.pop("type", None)
+        if kind is None:
+            raise InputError("network: missing; give --network fixed|divider|collector-feedback "
+                             "or 'type' in the [network] table")
+        if "vcc" not in net:
+            raise InputError("vcc: missing; give --vcc or 'vcc' in the [network] table (supply voltage in V)")
+        return BiasNetwork(kind=kind, tol=self.get("tol", 0.0), **net)
+
+    def operating_point(self, beta: float | None = None):
+        """The :class:`~devmodels.dcbias.OperatingPoint` of the bias network (any region)."""
+        from ..bias import DEFAULT_VCE_SAT
+        from ..dcbias import operating_point
+        from ..temperature import BETA_TC_DEFAULT, VBE_DEFAULT, VBE_TC_DEFAULT
+
+        network = self.network()
+        if network is None:
+            raise InputError("network: missing; give --network fixed|divider|collector-feedback "
+                             "or a [network] table in the bias file")
+        if self.family != "bipolar":
+            raise InputError(f"device: a bias network takes npn or pnp, got {self.device}")
+        beta = self.require("beta", "DC current gain at 300 K") if beta is None else beta
+        pmax, vceo = self.ratings()
+        return operating_point(network, beta, device=self.device, vbe=self.get("vbe", VBE_DEFAULT),
+                               temp=self.get("temp", 300.0), vbe_tc=self.get("vbe_tc", VBE_TC_DEFAULT),
+                               beta_tc=self.get("beta_tc", BETA_TC_DEFAULT),
+                               vce_sat=self.get("vce_sat", DEFAULT_VCE_SAT), pmax=pmax, vceo=vceo)
+
+    def bias_point(self):
+        """The bias dataclass of the device: BipolarBias (from IC and VCE, or a solved network),
+        MosfetBias or JfetBias.  Warns (once) when a rating is exceeded."""
+        if self._bias is not None:
+            return self._bias
+        self._check_family()
+        from ..dcbias import rating_warnings
+
+        fam = self.family
+        pmax, vceo = self.ratings()
+        if fam == "bipolar":
+            from ..bias import BipolarBias
+
+            fields = self._fields(BipolarBias)
+            if self.has_network():
+                for name in ("ic", "vce"):
+                    if name in fields:
+                        raise InputError(f"{name}: the bias file describes a bias network, which sets IC and VCE; "
+                                         f"remove '{name}' (or the [network] table)")
+                op = self.operating_point()
+                for w in op.warnings:  # the network's own rating check (power, VCE and the supply)
+                    warn(w)
+                datasheet = {k: v for k, v in fields.items() if k not in ("beta", "temp", "vce_sat")}
+                bias = op.bipolar_bias(**datasheet)  # BiasError when the network is not in the active region
+            else:
+                self.require("ic", "collector current in A, e.g. 1mA")
+                self.require("vce", "collector-emitter voltage in V, e.g. 5V")
+                self.require("beta", "current gain hFE, e.g. 100")
+                bias = BipolarBias(device=self.device, **fields)
+            if not self.has_network():
+                for w in rating_warnings(bias.power, bias.vce, 0.0, pmax=pmax, vceo=vceo):
+                    warn(w)
+        else:
+            from ..fetbias import JfetBias, MosfetBias
+
+            self.require("id", "drain current in A, e.g. 2mA")
+            self.require("vds", "drain-source voltage in V, e.g. 3V")
+            if fam == "jfet":
+                self.require("idss", "drain current at VGS = 0 in A, e.g. 8mA")
+                self.require("vp", "pinch-off voltage in V, e.g. -2V")
+            cls = MosfetBias if fam == "mosfet" else JfetBias
+            bias = cls(device=self.device, **self._fields(cls))
+            for w in rating_warnings(bias.id * bias.vds, 0.0, 0.0, pmax=pmax, vceo=None):
+                warn(w)
+        self._bias = bias
+        return bias
+
+    def model(self):
+        """The small-signal device model (hybrid-pi for a bipolar device, FetModel for a FET)."""
+        if self._model is None:
+            bias = self.bias_point()
+            if self.family == "bipolar":
+                from ..models import HybridPi
+
+                self._model = HybridPi.from_bias(bias)
+            else:
+                from ..fet import FetModel
+
+                self._model = FetModel.from_bias(bias)
+        return self._model
+
+    def configs(self) -> tuple[str, ...]:
+        """The configurations the device supports (``model.configs``)."""
+        return tuple(self.model().configs)
+
+    def stage(self, config: str | None):
+        """A :class:`~devmodels.stage.Stage` of the model in ``config`` (None: the model's first,
+        ce or cs) with ``rdeg`` and ``rfb``."""
+        from ..stage import Stage
+
+        return Stage(self.model(), config, self.get("rdeg", 0.0), self.get("rfb"))
+
+    def spread(self, config: str, freq: float, rs: complex, rl: complex, z0, samples: int, seed):
+        """The :class:`~devmodels.spread.SpreadSetup` and :class:`~devmodels.spread.SpreadRanges`."""
+        from ..bias import DEFAULT_VCE_SAT
+        from ..spread import SpreadRanges, SpreadSetup
+        from ..temperature import BETA_TC_DEFAULT, VBE_DEFAULT, VBE_TC_DEFAULT
+        from ..validate import p_type_magnitudes
+
+        self._check_family()
+        if self.family != "bipolar":
+            raise InputError(f"device: the spread takes npn or pnp, got {self.device}")
+        beta = self.get("beta")
+        bmin, bmax, btyp = self.get("beta_min"), self.get("beta_max"), self.get("beta_typ")
+        if (bmin is None) != (bmax is None):
+            missing = "beta_max" if bmax is None else "beta_min"
+            raise InputError(f"{missing}: missing; give both --beta-min and --beta-max (or neither, with --beta)")
+        if bmin is None:
+            if beta is None:
+                raise InputError("beta_min: missing; give --beta-min and --beta-max (or --beta for a fixed gain)")
+            bmin = bmax = beta
+        temp = self.get("temp", 300.0)
+        ranges = SpreadRanges(beta_min=bmin, beta_max=bmax, beta_typ=btyp, temp_min=self.get("temp_min", temp),
+                              temp_max=self.get("temp_max", temp), tol=self.get("tol", 0.0), samples=samples,
+                              seed=seed)
+        network = None
+        ic = vce = None
+        if self.has_network():
+            for name in ("ic", "vce"):
+                if name in self.values:
+                    raise InputError(f"{name}: the bias file describes a bias network, which sets IC and VCE; "
+                                     f"remove '{name}' (or the [network] table)")
+            import dataclasses
+
+            network = dataclasses.replace(self.network(), tol=0.0)  # the spread draws the tolerance itself
+        else:
+            ic = self.require("ic", "collector current in A, or a [network] table in the bias file")
+            vce = self.require("vce", "collector-emitter voltage in V, or a [network] table")
+            ic, vce = p_type_magnitudes(("ic", "vce"), self.device, ic, vce, self.device == "pnp")
+        pmax, vceo = self.ratings()
+        setup = SpreadSetup(
+            config=config, freq=freq, rs=rs, rl=rl, network=network, ic=ic, vce=vce, device=self.device,
+            vbe=self.get("vbe", VBE_DEFAULT), vbe_tc=self.get("vbe_tc", VBE_TC_DEFAULT),
+            beta_tc=self.get("beta_tc", BETA_TC_DEFAULT), vce_sat=self.get("vce_sat", DEFAULT_VCE_SAT),
+            va=self.get("va"), ft=self.get("ft"), cmu=self.get("cmu", 0.0), rb=self.get("rb", 0.0),
+            rcx=self.get("rcx", 0.0), rex=self.get("rex", 0.0), rmu=self.get("rmu"), rdeg=self.get("rdeg"),
+            rfb=self.get("rfb"), z0=z0, pmax=pmax, vceo=vceo)
+        if network is not None:  # the library's checks of a network point (supply sign, vce_sat, vbe)
+            self.operating_point(beta=bmin)
+        from ..validate import check_number
+
+        for name in ("va", "ft", "rmu", "vbe"):
+            check_number(name, setup.__getattribute__(name), keys()[name].unit, positive=True, optional=True)
+        for name in ("cmu", "rb", "rcx", "rex"):
+            check_number(name, setup.__getattribute__(name), keys()[name].unit, nonneg=True)
+        return setup, ranges
+
+
+# --- the other options ----------------------------------------------------------------------------
+#: Range of a given parameter's magnitude (any unit): beyond it the conversions overflow.
+GIVEN = Bounds(1e-30, 1e30)
+
+def check_kind(kind: str) -> str:
+    from ..constants import KINDS
+
+    k = kind.strip().lower()
+    if k not in KINDS:
+        raise InputError(f"kind: unknown parameter kind {shown(kind)}, expected one of {', '.join(KINDS)}")
+    return k
+
+
+def check_config(config: str) -> str:
+    from ..constants import BJT_CONFIGS, FET_CONFIGS
+
+    c = config.strip().lower()
+    if c not in BJT_CONFIGS + FET_CONFIGS:
+        raise InputError(f"config: unknown configuration {shown(config)}, expected one of "
+                         f"{', '.join(BJT_CONFIGS + FET_CONFIGS)}")
+    return c
+
+
+def parse_freq(text, name: str = "freq") -> float:
+    """One frequency in Hz (>= 0, within :data:`devmodels.schema.FREQ`)."""
+    f = parse_quantity(text, "Hz", name)
+    if f < 0:
+        raise InputError(f"{name}: expected a frequency >= 0 Hz, got {shown(text)}")
+    return check_bounds(name, f, "Hz", FREQ, text)
+
+
+def parse_freqs(values: list[str] | None, default: list[float] | None = None) -> np.ndarray | None:
+    """Frequencies in Hz from repeated ``--freq`` values (a value may hold a comma list)."""
+    if not values:
+        return None if default is None else np.asarray(default, dtype=float)
+    out = [parse_freq(part) for v in values for part in str(v).split(",")]
+    if len(out) > MAX_POINTS:
+        raise InputError(f"freq: {len(out):,} frequencies is more than the {MAX_POINTS:,} this computer can hold")
+    return np.asarray(out, dtype=float)
+
+
+def parse_points(text, name: str = "points") -> int:
+    """A number of points (``101``, ``1e6``), at most :data:`devmodels.schema.MAX_POINTS`."""
+    return parse_count(text, name, MAX_POINTS)
+
+
+def parse_z0(text: str | None) -> tuple[float, float]:
+    """``'50'`` or ``'50,75'`` -> reference resistances of port 1 and port 2 in ohm."""
+    if text is None:
+        return (50.0, 50.0)
+    parts = str(text).split(",")
+    if len(parts) not in (1, 2):
+        raise InputError(f"z0: expected one value or two (port1,port2) in ohm, got {shown(text)}")
+    vals = []
+    for p in parts:
+        v = parse_quantity(p, "Ohm", "z0")
+        if v <= 0:
+            raise InputError(f"z0: expected a positive reference resistance in ohm, got {shown(p.strip())}")
+        vals.append(check_bounds("z0", v, "Ohm", Z0, p.strip()))
+    return (vals[0], vals[-1])
+
+
+def terminations(rs, rl) -> tuple[complex, complex]:
+    """Source and load impedances (``rl`` may be ``open``)."""
+    return (parse_impedance(rs, "rs", bounds=IMPEDANCE),
+            parse_impedance(rl, "rl", allow_open=True, bounds=IMPEDANCE))
+
+
+def parse_given(text: str, z0=(50.0, 50.0), freq: np.ndarray | None = None, config: str | None = None,
+                name: str = "params"):
+    """A :class:`~devmodels.twoport.TwoPort` from ``KIND=v11,v12,v21,v22`` (units and complex values allowed).
+
+    Without ``freq`` the result has one point and no frequency; with it, the same
+    (frequency-independent) values are repeated at every frequency.
+    """
+    from ..constants import KINDS
+    from ..twoport import TwoPort
+    from .render import ELEMENT_UNITS
+
+    s = str(text).strip()
+    if s.count("=") != 1:
+        raise InputError(f"{name}: expected KIND=v11,v12,v21,v22 (KIND one of {', '.join(KINDS)}), got {shown(text)}")
+    kind, _, rest = s.partition("=")
+    kind = kind.strip().lower()
+    if kind not in KINDS:
+        raise InputError(f"{name}: unknown parameter kind {shown(kind)}, expected one of {', '.join(KINDS)}")
+    vals = rest.split(",")
+    if len(vals) != 4:
+        raise InputError(f"{name}: expected four values v11,v12,v21,v22 after '{kind}=', got {len(vals)}")
+    units = {"S": "S", "Ω": "Ohm", "": ""}
+    data = []
+    for v, n, u in zip(vals, ("11", "12", "21", "22"), ELEMENT_UNITS[kind]):
+        z = parse_complex(v, units[u], f"{name} {kind}{n}")
+        check_bounds(f"{name} {kind}{n}", abs(z), units[u], GIVEN, v.strip())
+        data.append(z)
+    arr = np.array(data, dtype=complex).reshape(1, 2, 2)
+    if freq is None:
+        return TwoPort(None, arr, kind, z0, config)
+    return TwoPort(freq, np.repeat(arr, len(freq), axis=0), kind, z0, config)
+
+
+def two_port_input(bias_in: Inputs, given: str | None, touchstone: Path | None, config: str,
+                   freq: np.ndarray | None, z0, default_freq: float = 1e3):
+    """The two-port to work on: from a bias point, from ``--params`` or from ``--touchstone``.
+
+    A bias point without ``freq`` is taken at ``default_freq`` (Hz); given parameters keep
+    one frequency-independent point, a Touchstone file all its frequencies (a frequency that
+    is not in the file is interpolated, with a warning).
+    """
+    config = check_config(config) if config is not None else None
+    if given is not None and touchstone is not None:
+        raise InputError("params: give either --params or --touchstone, not both")
+    if given is not None or touchstone is not None:
+        if bias_in.given():
+            what = "--params" if given is not None else "--touchstone"
+            raise InputError(f"{what.lstrip('-')}: give either a two-port ({what}) or a bias point, not both")
+        if given is not None:
+            return parse_given(given, z0, freq, config or "ce")
+        return read_touchstone_at(touchstone, freq, config or "ce")
+    if not bias_in.given():
+        raise InputError("bias point: missing; give a bias file, bias options (--ic, --vce, --beta, ...), "
+                         "--params or --touchstone")
+    f = freq if freq is not None else np.array([default_freq])
+    return bias_in.stage(config).two_port(f, "y", z0)
+
+
+def read_touchstone_at(path: Path, freq, config):
+    """A Touchstone file's two-port; a warning when a requested frequency is not in the file."""
+    from ..touchstone import read_touchstone
+
+    tp = read_touchstone(path, None, config)
+    if freq is None:
+        return tp
+    if tp.freq is not None and not np.all(np.isin(freq, tp.freq)):
+        warn("freq: a requested frequency is not in the Touchstone file; its values are interpolated "
+             "linearly in real and imaginary parts between the neighbouring points")
+    return read_touchstone(path, freq, config)
+

@@ -1,0 +1,293 @@
+"""The one description of every bias input: key, unit, range, help text, where it may be written.
+
+Keys come from the library's own input dataclasses, whose field metadata
+(:func:`devmodels.validate.meta`) holds the unit, the physical range and the help text:
+:class:`~devmodels.bias.BipolarBias`, :class:`~devmodels.fetbias.MosfetBias`,
+:class:`~devmodels.fetbias.JfetBias` and :class:`~devmodels.dcbias.BiasNetwork` (its keys
+live in the bias file's ``[network]`` table).  :data:`EXTRA` adds the inputs that are
+arguments of functions rather than dataclass fields (the stage's ``rdeg`` / ``rfb``, the
+ratings, the temperature coefficients, the spread limits).  The command line builds its
+options from :func:`keys`, :mod:`devmodels.biasfile` accepts exactly these keys, and
+:func:`merge` is the one place where a file and the options become SI values (an option
+overrides the file).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import difflib
+import functools
+from dataclasses import dataclass
+from typing import Any, Mapping
+
+from .exceptions import InputError
+from .units import Bounds, check_bounds, parse_quantity, parse_temperature, shown, temperature_warning, type_name
+
+__all__ = ["Key", "DEVICES", "FAMILY", "PANELS", "TABLES", "keys", "flat_keys", "table_keys", "merge",
+           "nearest", "MAX_POINTS", "MAX_SAMPLES", "FREQ", "Z0", "IMPEDANCE"]
+
+#: Every device type and its family ("bipolar", "mosfet", "jfet").
+FAMILY: dict[str, str] = {"npn": "bipolar", "pnp": "bipolar", "nmos": "mosfet", "pmos": "mosfet",
+                          "njfet": "jfet", "pjfet": "jfet"}
+DEVICES: tuple[str, ...] = tuple(FAMILY)
+#: Help panels of the options, by panel key.
+PANELS: dict[str, str] = {
+    "device": "Device", "bipolar": "Bipolar transistor", "fet": "FET (--device nmos, pmos, njfet, pjfet)",
+    "stage": "Stage: external resistors", "rating": "Ratings and temperature coefficients",
+    "network": "Bias network", "spread": "Spread limits"}
+#: Tables a bias file may hold.
+TABLES: tuple[str, ...] = ("network",)
+
+# Ranges of quantities that are options of commands rather than bias keys (SI, magnitudes).
+FREQ = Bounds(1e-6, 1e15)
+Z0 = Bounds(1e-3, 1e9, zero=False)
+IMPEDANCE = Bounds(1e-9, 1e15)
+
+
+def _memory_bytes() -> int:
+    import os
+
+    try:
+        return int(os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES"))
+    except (ValueError, OSError, AttributeError):
+        return 4 << 30
+
+
+#: Largest number of sweep points and spread samples: a quarter of this computer's memory at
+#: about 2 kB per sweep point (the parameters, their conversion and the JSON or table text) and
+#: 400 bytes per spread sample (README: peak about 130 bytes per sample, kept with margin).
+MAX_POINTS = max(1000, _memory_bytes() // 4 // 2048)
+MAX_SAMPLES = max(1000, _memory_bytes() // 4 // 400)
+
+
+@dataclass(frozen=True, slots=True)
+class Key:
+    """One bias input.
+
+    Attributes
+    ----------
+    name : str
+        Key in the bias file (and option name with ``-`` for ``_``).
+    table : str or None
+        ``None`` for a top-level key, ``"network"`` for a key of the ``[network]`` table.
+    unit : str
+        Unit key of :data:`devmodels.units.UNITS`, ``'K'`` for a temperature, ``'str'`` for text.
+        Percentages are given in % and handed to the library as fractions.
+    help : str
+        Help text.
+    bounds : Bounds or None
+        Physical range of the magnitude.
+    panel : str
+        Help panel key (:data:`PANELS`).
+    family : str or None
+        Device family the key belongs to (``bipolar``, ``fet``, ``mosfet``, ``jfet``), None for all.
+    field : str
+        Name of the library parameter it becomes.
+    also : str or None
+        A table where the same key may be written instead (``network`` for ``vbe``, ``pmax``, ...).
+    choices : tuple of str or None
+        Allowed text values.
+    """
+
+    name: str
+    table: str | None
+    unit: str
+    help: str
+    bounds: Bounds | None
+    panel: str
+    family: str | None = None
+    field: str = ""
+    also: str | None = None
+    choices: tuple[str, ...] | None = None
+
+    @property
+    def id(self) -> str:
+        """Unique id: the name, or ``table.name`` for a key of a table."""
+        return self.name if self.table is None else f"{self.table}.{self.name}"
+
+    @property
+    def flag(self) -> str:
+        """The command-line option (``--vce-sat``; ``--network`` for the network type)."""
+        if self.id == "network.type":
+            return "--network"
+        return "--" + self.name.replace("_", "-")
+
+    @property
+    def param(self) -> str:
+        """Python parameter name of the option."""
+        return self.id.replace(".", "_").replace("-", "_") + ("_" if self.name in ("lambda", "type") else "")
+
+    @property
+    def label(self) -> str:
+        """The name error messages start with (``network`` for the network type)."""
+        return "network" if self.id == "network.type" else self.name
+
+    def parse(self, raw):
+        """``raw`` in SI units, range-checked; percentages as fractions.
+
+        Parameters
+        ----------
+        raw : str or number
+            The value as written on the command line or in the bias file.
+        """
+        name = self.label
+        if self.unit == "str":
+            if not isinstance(raw, str):
+                raise InputError(f"{name}: expected text, got {type_name(raw)}")
+            v = raw.strip().lower()
+            if not v:
+                raise InputError(f"{name}: expected one of {', '.join(self.choices or ())}, got an empty value"
+                                 if self.choices else f"{name}: expected text, got an empty value")
+            if self.choices and v not in self.choices:
+                near = nearest(v, self.choices)
+                raise InputError(f"{name}: unknown value {shown(raw)}; expected one of {', '.join(self.choices)}"
+                                 + (f" (did you mean {near}?)" if near else ""))
+            return v
+        if self.unit == "K":
+            return parse_temperature(raw, name)
+        v = parse_quantity(raw, self.unit, name)
+        check_bounds(name, v, self.unit, self.bounds, raw)
+        return v / 100.0 if self.unit in ("%", "%/K") else v
+
+
+def _meta_keys(cls, table: str | None, panel: str, family: str | None, skip=()) -> list[Key]:
+    out = []
+    for f in dataclasses.fields(cls):
+        m = f.metadata.get("schema")
+        if m is None or f.name in skip:
+            continue
+        name = m["key"] or f.name
+        b = None if m["unit"] == "str" else Bounds(m["lo"], m["hi"], m["zero"])
+        out.append(Key(name, table, m["unit"], m["help"], b, panel, family, f.name))
+    return out
+
+
+#: Inputs that are not dataclass fields: (name, unit, help, bounds, panel, library parameter, also-in table).
+EXTRA: tuple[tuple[str, str, str, Bounds | None, str, str, str | None], ...] = (
+    ("rdeg", "Ohm", "External emitter (source) degeneration resistor, ohm (default: none).",
+     Bounds(1e-6, 1e15), "stage", "Stage.rdeg", None),
+    ("rfb", "Ohm", "External collector-base (drain-gate) feedback resistor, ohm (default: none).",
+     Bounds(1e-6, 1e15), "stage", "Stage.rfb", None),
+    ("pmax", "W", "Power rating, W: warn when the dissipation (IC VCE, ID VDS) is above it.",
+     Bounds(1e-9, 1e6, zero=False), "rating", "pmax", "network"),
+    ("vceo", "V", "Breakdown rating VCEO, V: warn when VCE (or, with a network, VCC) is above it.",
+     Bounds(1e-3, 1e5, zero=False), "rating", "vceo", "network"),
+    ("vbe", "V", "VBE(on) at 300 K, V (default 0.7 V; used with a bias network).",
+     Bounds(1e-3, 10.0, zero=False), "rating", "vbe", "network"),
+    ("vbe_tc", "V/K", "VBE(on) temperature coefficient, V/K (default -2mV/K).",
+     Bounds(1e-9, 1.0), "rating", "vbe_tc", "network"),
+    ("beta_tc", "%/K", "Beta temperature coefficient, %/K (default 0.5, compounded).",
+     Bounds(1e-9, 99.0), "rating", "beta_tc", "network"),
+    ("beta_min", "", "Lowest beta at 300 K (datasheet minimum hFE).", Bounds(1e-3, 1e6), "spread",
+     "SpreadRanges.beta_min", None),
+    ("beta_max", "", "Highest beta at 300 K (datasheet maximum hFE).", Bounds(1e-3, 1e6), "spread",
+     "SpreadRanges.beta_max", None),
+    ("beta_typ", "", "Typical beta: a triangular distribution with this mode (default: uniform).",
+     Bounds(1e-3, 1e6), "spread", "SpreadRanges.beta_typ", None),
+    ("temp_min", "K", "Lowest temperature, K or Celsius (-20C) (default --temp).", None, "spread",
+     "SpreadRanges.temp_min", None),
+    ("temp_max", "K", "Highest temperature, K or Celsius (70C) (default --temp).", None, "spread",
+     "SpreadRanges.temp_max", None),
+)
+
+
+@functools.lru_cache(maxsize=None)
+def keys() -> dict[str, Key]:
+    """Every key by id (``ic``, ``network.vcc``), built once from the dataclasses and :data:`EXTRA`."""
+    from .bias import BipolarBias
+    from .dcbias import NETWORK_KINDS, BiasNetwork
+    from .fetbias import JfetBias, MosfetBias
+
+    out: dict[str, Key] = {}
+
+    def add(k: Key) -> None:
+        out.setdefault(k.id, k)
+
+    add(Key("device", None, "str", "Device: npn, pnp, nmos, pmos, njfet or pjfet (default npn).", None,
+            "device", None, "device", choices=DEVICES))
+    for k in _meta_keys(BipolarBias, None, "bipolar", "bipolar"):
+        add(k if k.name != "temp" else dataclasses.replace(k, panel="device", family=None))
+    mos = {f.name for f in dataclasses.fields(MosfetBias)}
+    jf = {f.name for f in dataclasses.fields(JfetBias)}
+    for k in _meta_keys(MosfetBias, None, "fet", "mosfet") + _meta_keys(JfetBias, None, "fet", "jfet"):
+        add(dataclasses.replace(k, family="fet") if k.field in mos and k.field in jf else k)
+    for name, unit, help_, b, panel, lib, also in EXTRA:
+        add(Key(name, None, unit, help_, b, panel, None, lib, also))
+    for k in _meta_keys(BiasNetwork, "network", "network", "bipolar"):
+        if k.name == "tol":  # one tolerance: top level or [network], for the network and rdeg/rfb
+            add(Key("tol", None, "%", "Resistor tolerance, % (network resistors, rdeg, rfb) (default 0).",
+                    k.bounds, "network", None, "BiasNetwork.tol", "network"))
+        elif k.name == "type":
+            add(dataclasses.replace(k, choices=NETWORK_KINDS, field="BiasNetwork.kind"))
+        else:
+            add(dataclasses.replace(k, field=f"BiasNetwork.{k.field}"))
+    add(Key("description", None, "str", "A note about the bias point (not used).", None, "device", None,
+            "description"))
+    return out
+
+
+def flat_keys() -> dict[str, Key]:
+    """Keys accepted at the top level of a bias file."""
+    return {k.name: k for k in keys().values() if k.table is None}
+
+
+def table_keys(table: str) -> dict[str, Key]:
+    """Keys accepted in ``[table]`` (its own and those that may also be written there)."""
+    return {k.name: k for k in keys().values() if k.table == table or k.also == table}
+
+
+def nearest(word: str, names) -> str | None:
+    """The valid name closest to ``word`` (``difflib.get_close_matches``), or None.
+
+    Parameters
+    ----------
+    word : str
+        The unknown name.
+    names : iterable of str
+        The valid names.
+    """
+    m = difflib.get_close_matches(word, list(names), n=1, cutoff=0.6)
+    return m[0] if m else None
+
+
+def merge(options: Mapping[str, Any], flat: Mapping[str, Any], tables: Mapping[str, Mapping[str, Any]],
+          *, warnings: list | None = None) -> dict[str, Any]:
+    """Merge a bias file and the options into SI values by key id (an option overrides the file).
+
+    Parameters
+    ----------
+    options : mapping of key id -> raw value or None
+        Values from the command line (text as typed; None when not given).
+    flat, tables : mappings
+        The bias file's top-level keys and its tables (as :func:`devmodels.biasfile.load_bias_file`
+        returns them; keys already checked).
+    warnings : list, optional
+        Receives warnings (a junction temperature outside the usual range).
+
+    Returns
+    -------
+    dict
+        Key id -> parsed value, for every key given anywhere.
+    """
+    ks = keys()
+    out: dict[str, Any] = {}
+    for kid, key in ks.items():
+        raw = options.get(kid)
+        if raw is None:
+            place = flat if key.table is None else tables.get(key.table, {})
+            raw = place.get(key.name)
+            if key.also is not None:
+                other = tables.get(key.also, {}).get(key.name)
+                if raw is not None and other is not None:
+                    raise InputError(f"{key.name}: given both at the top level and in [{key.also}] of the "
+                                     "bias file; keep one")
+                raw = other if raw is None else raw
+        if raw is None:
+            continue
+        v = key.parse(raw)
+        out[kid] = v
+        if key.unit == "K" and key.name == "temp" and warnings is not None:
+            w = temperature_warning(key.name, raw, v)
+            if w:
+                warnings.append(w)
+    return out

@@ -1,0 +1,705 @@
+r"""Worst case over a box of limits, yield against specifications, streaming quantiles.
+
+**Worst case.**  The limits of a spread (:mod:`devmodels.spread`) form a box: beta between
+``beta_min`` and ``beta_max``, the temperature between ``temp_min`` and ``temp_max`` and
+each toleranced resistor between :math:`1 - tol` and :math:`1 + tol` times its nominal
+value.  :func:`worst_case` evaluates every vertex of the box (:math:`2^n` points) together
+with seven points inside every edge (at 1/8 .. 7/8) and the centre, all in one call of
+:func:`devmodels.spread.evaluate`.  A result whose values along every edge are monotonic
+(the nine points of each edge in order, within a relative 1e-9) and whose centre lies
+between its vertex extremes is taken as monotonic in each limit: its extremes are then at
+vertices (``method = 'vertices'``).  This check is a heuristic on the edges; it does not
+prove monotonicity inside the box.  Otherwise (or where a result does not exist at some
+point) a bounded local search follows (``method = 'vertices+search'``), from the best point
+evaluated so far: each step tries a grid of :data:`GRID` values along every limit through
+the current point plus ``8 n`` random points around it (all in one call) and moves to the
+best; when nothing improves, the neighbourhood shrinks by a factor of four, down to 1e-10 of
+each limit's width (at most ``max_steps`` steps).  It finds a local extreme and is not a
+global optimiser: where a result ceases to exist inside the box (saturation, cutoff) its
+extreme often lies on that boundary, which a local search may miss; ``undefined_vertices``
+reports the vertices without a value.
+
+**Yield.**  The fraction of samples meeting every specification (``av>=40``,
+``zin>=1k``), with the 95 % Wilson score interval (E. B. Wilson, "Probable inference, the
+law of succession, and statistical inference", J. Am. Stat. Assoc. 22 (1927) 209-212):
+
+.. math::
+    \frac{\hat p + \frac{z^2}{2n} \pm z\sqrt{\frac{\hat p(1-\hat p)}{n}+\frac{z^2}{4n^2}}}
+         {1 + \frac{z^2}{n}},\qquad z = 1.959963984540054.
+
+**Streaming quantiles.**  :class:`StreamingSummary` keeps, per result, a histogram on the
+grid :math:`u = \operatorname{asinh}(v/s)` with bins of width :math:`w` (default
+:data:`REL_WIDTH` = 1e-4) and the exact minimum and maximum.  The scale :math:`s` is a
+hundredth of the smallest non-zero magnitude of the first chunk that has one, so the grid
+is logarithmic (relative bin width :math:`w`) for magnitudes above :math:`100 s` and linear
+(absolute width about :math:`w s`) near zero, and handles signs and zeros.  A quantile is
+the interpolation of numpy's default ('linear') between two order statistics, each taken
+at the centre of its bin (the minimum and maximum exactly), so its error is at most
+:math:`\frac{w}{2}\sqrt{v^2+s^2}\,e^{w}` (:meth:`StreamingSummary.error_bound` states
+:math:`w\sqrt{v^2+s^2}`, with margin).  Memory depends on the spread of the values, not on
+the number of samples (about 23 000 bins per decade at 1e-4); beyond ``max_bins`` bins per
+result the bins are merged in pairs (the width doubles, and so does the bound).
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+import re
+from typing import Iterable, Mapping
+
+import numpy as np
+
+from .exceptions import InputError
+
+__all__ = ["vertices", "worst_case", "box_limits", "yield_fraction", "parse_spec", "check_specs",
+           "worst_case_pass", "spec_text", "StreamingSummary", "GRID", "REL_WIDTH", "Z95", "SPEC_UNITS"]
+
+#: Grid points per limit in each step of the local search.
+GRID = 9
+#: Default bin width of :class:`StreamingSummary` in asinh units (relative width for large values).
+REL_WIDTH = 1e-4
+#: The 97.5 % point of the standard normal distribution (two-sided 95 %).
+Z95 = 1.959963984540054
+#: Units of the results that have one (for values in specifications).
+SPEC_UNITS: dict[str, str] = {"zin": "Ohm", "zout": "Ohm", "f_low": "Hz", "bandwidth": "Hz", "ic": "A",
+                              "vce": "V", "power": "W"}
+_OPS = (">=", "<=", ">", "<")
+_EDGE_FRACTIONS = tuple(np.arange(1, 8) / 8.0)
+#: Random points tried around the current point in each search step, per limit.
+_RANDOM_PER_DIM = 8
+_MONO_RTOL = 1e-9
+
+
+# --- worst case ---------------------------------------------------------------------------------
+def vertices(limits: Mapping[str, tuple[float, float]]) -> dict[str, np.ndarray]:
+    """Every corner of a box of limits, as one array per limit.
+
+    Parameters
+    ----------
+    limits : mapping of str -> (lo, hi)
+        The box.  A limit with ``lo == hi`` is a single value (it does not double the corners).
+
+    Returns
+    -------
+    dict of str -> ndarray (2**m,)
+        The corners, ``m`` the number of limits with ``lo < hi``; the first such limit varies
+        slowest (the order of :func:`itertools.product`).
+    """
+    names = list(limits)
+    for n in names:
+        lo, hi = limits[n]
+        if not (math.isfinite(lo) and math.isfinite(hi)) or lo > hi:
+            raise InputError(f"{n}: expected finite limits lo <= hi, got {lo!r}, {hi!r}")
+    wide = [n for n in names if limits[n][0] < limits[n][1]]
+    corners = np.array(list(itertools.product((0, 1), repeat=len(wide))), dtype=float).reshape(-1, len(wide))
+    out = {}
+    for n in names:
+        lo, hi = (float(x) for x in limits[n])
+        if n in wide:
+            out[n] = lo + corners[:, wide.index(n)] * (hi - lo)
+        else:
+            out[n] = np.full(corners.shape[0], lo)
+    return out
+
+
+def box_limits(setup, ranges) -> dict[str, tuple[float, float]]:
+    """The box of a spread's limits.
+
+    Parameters
+    ----------
+    setup : devmodels.spread.SpreadSetup
+        Its toleranced resistors (``setup.resistors``).
+    ranges : devmodels.spread.SpreadRanges
+        The limits.
+
+    Returns
+    -------
+    dict of str -> (float, float)
+        ``beta`` (at the reference temperature), ``temp`` (K) and, with a tolerance, a
+        multiplier ``(1 - tol, 1 + tol)`` for every resistor of ``setup.resistors``.
+    """
+    out = {"beta": (float(ranges.beta_min), float(ranges.beta_max)),
+           "temp": (float(ranges.temp_min), float(ranges.temp_max))}
+    if ranges.tol > 0:
+        for name in setup.resistors:
+            out[name] = (1.0 - ranges.tol, 1.0 + ranges.tol)
+    return out
+
+
+def _evaluate(setup, points: Mapping[str, np.ndarray]) -> dict:
+    from .spread import evaluate
+
+    factors = {k: v for k, v in points.items() if k not in ("beta", "temp")}
+    return evaluate(setup, points["beta"], points["temp"], factors)
+
+
+def _monotone(seq: np.ndarray) -> np.ndarray:
+    """Whether each row of ``seq`` (rows of ordered points) is monotonic, within a tolerance."""
+    if seq.shape[1] < 2:
+        return np.ones(seq.shape[0], dtype=bool)
+    d = np.diff(seq, axis=1)
+    tol = _MONO_RTOL * np.max(np.abs(seq), axis=1, keepdims=True)
+    up = np.all(d >= -tol, axis=1)
+    down = np.all(d <= tol, axis=1)
+    return (up | down) & np.all(np.isfinite(seq), axis=1)
+
+
+def _setting(name: str, t: float, lo: float, hi: float, nominal: dict) -> str | float:
+    if lo == hi:
+        return float(lo * nominal.get(name, 1.0))
+    if t <= 0.0:
+        return "low"
+    if t >= 1.0:
+        return "high"
+    return float((lo + t * (hi - lo)) * nominal.get(name, 1.0))
+
+
+def worst_case(setup, ranges, *, results: Iterable[str] | None = None, grid: int = GRID,
+               max_steps: int = 400) -> dict[str, dict]:
+    """Extremes of every result over the box of limits (method in the module docstring).
+
+    Parameters
+    ----------
+    setup : devmodels.spread.SpreadSetup
+        The fixed part of the stage.
+    ranges : devmodels.spread.SpreadRanges
+        The limits (``samples``, ``seed`` and ``beta_typ`` are not used).
+    results : iterable of str, optional
+        Results to report (default every one of :data:`devmodels.spread.RESULTS`).
+    grid : int
+        Grid points per limit in each step of the local search (>= 3).
+    max_steps : int
+        Bound on the search steps (each one evaluation call).
+
+    Returns
+    -------
+    dict of str -> dict
+        For each result: ``worst_min``, ``worst_max`` (floats, or ``None`` where the result exists
+        at no evaluated point), ``worst_min_at``, ``worst_max_at`` (dicts limit -> ``'low'``,
+        ``'high'`` or the value inside the limits: beta, K, or ohm for a resistor),
+        ``method`` (``'vertices'`` or ``'vertices+search'``) and ``undefined_vertices`` (how many
+        vertices have no value: saturation, cutoff or no small-signal model there).
+    """
+    from .spread import RESULTS
+
+    names_r = list(RESULTS if results is None else results)
+    for r in names_r:
+        if r not in RESULTS:
+            raise InputError(f"results: {r!r} is not a result; expected one of {', '.join(RESULTS)}")
+    if isinstance(grid, bool) or not isinstance(grid, int) or grid < 3:
+        raise InputError(f"grid: expected a whole number >= 3, got {grid!r}")
+    limits = box_limits(setup, ranges)
+    nominal = dict(setup.resistors)
+    dims = list(limits)
+    lo = np.array([limits[d][0] for d in dims])
+    hi = np.array([limits[d][1] for d in dims])
+    wide = [i for i, d in enumerate(dims) if lo[i] < hi[i]]
+    nv = 2 ** len(wide)
+
+    # normalised coordinates t in [0, 1]^n: vertices, points inside every edge, the centre
+    corners = np.array(list(itertools.product((0.0, 1.0), repeat=len(wide)))).reshape(nv, len(wide))
+    t_vert = np.zeros((nv, len(dims)))
+    t_vert[:, wide] = corners
+    edge_rows = []  # (dim position in wide, vertex index at the low end, vertex index at the high end)
+    t_edges = []
+    for j in range(len(wide)):
+        low_ends = np.nonzero(corners[:, j] == 0.0)[0]
+        for a in low_ends:
+            b = int(a) + 2 ** (len(wide) - 1 - j)  # the same corner with limit j high (product order)
+            edge_rows.append((j, int(a), b))
+            for f in _EDGE_FRACTIONS:
+                t = t_vert[a].copy()
+                t[wide[j]] = f
+                t_edges.append(t)
+    t_centre = np.full((1, len(dims)), 0.5)
+    t_all = np.vstack([t_vert] + ([np.array(t_edges)] if t_edges else []) + [t_centre])
+
+    def points(t: np.ndarray) -> dict[str, np.ndarray]:
+        x = lo + t * (hi - lo)
+        return {d: x[:, i] for i, d in enumerate(dims)}
+
+    val = _evaluate(setup, points(t_all))
+    nf = len(_EDGE_FRACTIONS)
+    out: dict[str, dict] = {}
+    searches = []
+    for r in names_r:
+        v = np.asarray(val[r], dtype=float)
+        vv = v[:nv]
+        fin = np.isfinite(vv)
+        entry: dict = {"undefined_vertices": int(nv - fin.sum())}
+        if edge_rows:
+            seq = np.empty((len(edge_rows), nf + 2))
+            for e, (j, a, b) in enumerate(edge_rows):
+                seq[e, 0] = vv[a]
+                seq[e, 1:nf + 1] = v[nv + e * nf: nv + (e + 1) * nf]
+                seq[e, -1] = vv[b]
+            mono = bool(np.all(_monotone(seq)))
+        else:
+            mono = bool(np.all(fin))
+        centre = v[-1]
+        if fin.any():
+            mono = mono and fin.all() and vv.min() - _MONO_RTOL * abs(vv.min()) <= centre <= vv.max() + \
+                _MONO_RTOL * abs(vv.max())
+        entry["method"] = "vertices" if mono else "vertices+search"
+        allfin = np.isfinite(v)
+        if not allfin.any():  # the result exists nowhere (an open impedance, no active point)
+            entry.update(worst_min=None, worst_max=None, worst_min_at=None, worst_max_at=None, method="vertices")
+            out[r] = entry
+            continue
+        for sense, key in ((1.0, "min"), (-1.0, "max")):
+            pool = v if not mono else np.where(np.arange(v.size) < nv, v, np.nan)
+            score = np.where(np.isfinite(pool), sense * pool, np.inf)
+            k = int(np.argmin(score))
+            entry[f"worst_{key}"] = float(v[k])
+            entry[f"_t_{key}"] = t_all[k].copy()
+            if not mono:
+                searches.append({"r": r, "sense": sense, "key": key, "t": t_all[k].copy(),
+                                 "best": float(score[k]), "h": None})
+        out[r] = entry
+
+    # bounded coordinate search for the results that are not monotonic (all searches in lockstep)
+    g = np.linspace(-1.0, 1.0, grid)
+    rand = np.random.default_rng(20270101)  # fixed: the same limits give the same answer
+    steps = 0
+    active = [s for s in searches]
+    while active and steps < max_steps and wide:
+        steps += 1
+        blocks = []
+        for s in active:
+            cand = []
+            for j in wide:
+                line = np.linspace(0.0, 1.0, grid) if s["h"] is None else np.clip(s["t"][j] + s["h"] * g, 0.0, 1.0)
+                t = np.repeat(s["t"][None, :], grid, axis=0)
+                t[:, j] = line
+                cand.append(t)
+            # random points around it (the whole box at first): a way off ridges and
+            # constraint edges where a move along one limit at a time cannot improve
+            k = _RANDOM_PER_DIM * len(wide)
+            t = np.repeat(s["t"][None, :], k, axis=0)
+            half = 1.0 if s["h"] is None else s["h"]
+            t[:, wide] = np.clip(t[:, wide] + half * rand.uniform(-1.0, 1.0, (k, len(wide))), 0.0, 1.0)
+            cand.append(t)
+            blocks.append(np.vstack(cand))
+        tt = np.vstack(blocks)
+        res = _evaluate(setup, points(tt))
+        pos = 0
+        still = []
+        for s, blk in zip(active, blocks):
+            v = np.asarray(res[s["r"]][pos:pos + blk.shape[0]], dtype=float)
+            pos += blk.shape[0]
+            score = np.where(np.isfinite(v), s["sense"] * v, np.inf)
+            k = int(np.argmin(score))
+            if score[k] < s["best"] - 1e-15 * abs(s["best"]):
+                s["best"], s["t"] = float(score[k]), blk[k].copy()
+            else:
+                s["h"] = (2.0 / (grid - 1)) if s["h"] is None else s["h"] / 4.0
+            if s["h"] is None or s["h"] >= 1e-10:
+                still.append(s)
+        active = still
+    for s in searches:
+        e = out[s["r"]]
+        e[f"worst_{s['key']}"] = s["sense"] * s["best"]
+        e[f"_t_{s['key']}"] = s["t"]
+    for r, e in out.items():
+        for key in ("min", "max"):
+            t = e.pop(f"_t_{key}", None)
+            if t is not None:
+                e[f"worst_{key}_at"] = {d: _setting(d, float(t[i]), float(lo[i]), float(hi[i]), nominal)
+                                        for i, d in enumerate(dims)}
+        out[r] = {k: e[k] for k in ("worst_min", "worst_max", "worst_min_at", "worst_max_at", "method",
+                                     "undefined_vertices")}
+    return out
+
+
+# --- yield --------------------------------------------------------------------------------------
+def yield_fraction(passed_count: int, n: int, z: float = Z95) -> tuple[float, tuple[float, float]]:
+    """The fraction passed and its Wilson score interval (Wilson 1927; formula in the module docstring).
+
+    Parameters
+    ----------
+    passed_count : int
+        Samples meeting every specification.
+    n : int
+        Samples drawn (>= 1).
+    z : float
+        Normal quantile of the interval (default 1.96: 95 %).
+
+    Returns
+    -------
+    (float, (float, float))
+        ``passed_count / n`` and the interval ``(lo, hi)`` within [0, 1].
+    """
+    for name, v in (("passed_count", passed_count), ("n", n)):
+        if isinstance(v, bool) or not isinstance(v, (int, np.integer)):
+            raise InputError(f"{name}: expected a whole number, got {v!r}")
+    if n < 1:
+        raise InputError(f"n: expected at least one sample, got {n}")
+    if not 0 <= passed_count <= n:
+        raise InputError(f"passed_count: expected 0 to n = {n}, got {passed_count}")
+    p = passed_count / n
+    z2 = z * z
+    denom = 1.0 + z2 / n
+    centre = (p + z2 / (2 * n)) / denom
+    half = z / denom * math.sqrt(p * (1 - p) / n + z2 / (4 * n * n))
+    lo = 0.0 if passed_count == 0 else max(0.0, centre - half)  # exact ends: no rounding residue
+    hi = 1.0 if passed_count == n else min(1.0, centre + half)
+    return p, (lo, hi)
+
+
+_SPEC = re.compile(r"^\s*([A-Za-z_][A-Za-z0-9_]*)\s*([<>=!]*)\s*(.*?)\s*$", re.S)
+
+
+def parse_spec(text: str, results: Iterable[str] | None = None) -> tuple[str, str, float]:
+    """Read a specification ``RESULT OP VALUE`` (``av>=40``, ``zin >= 1k``, ``f_low<20Hz``).
+
+    Parameters
+    ----------
+    text : str
+        The specification.  OP is one of ``>=``, ``<=``, ``>``, ``<``.  VALUE is a number with an
+        optional SI prefix and the result's unit where it has one (:data:`SPEC_UNITS`: ohm for
+        ``zin``/``zout``, Hz for ``f_low``/``bandwidth``, A, V, W for ``ic``, ``vce``, ``power``);
+        ``gt_db`` takes an optional ``dB``.
+    results : iterable of str, optional
+        The names a specification may use (default :data:`devmodels.spread.RESULTS`).
+
+    Returns
+    -------
+    (str, str, float)
+        Result name, operator, value in SI units.
+    """
+    from .spread import RESULTS
+    from .units import parse_quantity, shown
+
+    names = tuple(RESULTS if results is None else results)
+    if not isinstance(text, str):
+        raise InputError(f"spec: expected text such as 'av>=40', got {text!r}")
+    m = _SPEC.match(text)
+    if not m or not m.group(1):
+        raise InputError(f"spec: cannot read {shown(text)}; expected RESULT>=VALUE or RESULT<=VALUE (e.g. av>=40)")
+    name, op, rest = m.groups()
+    if name not in names:
+        raise InputError(f"spec: {name!r} is not a result; expected one of {', '.join(names)}")
+    if op not in _OPS:
+        raise InputError(f"spec: {shown(text)} has the operator {op!r}; expected one of "
+                         f"{', '.join(_OPS)} (e.g. {name}>=...)" if op else
+                         f"spec: {shown(text)} has no comparison; expected one of {', '.join(_OPS)} (e.g. {name}>=...)")
+    if name == "gt_db" and rest.endswith("dB"):
+        rest = rest[:-2].rstrip()
+    value = parse_quantity(rest, SPEC_UNITS.get(name, ""), f"spec {name}")
+    return name, op, value
+
+
+def spec_text(spec: tuple[str, str, float]) -> str:
+    """A parsed specification as text (``'av>=40'``).
+
+    Parameters
+    ----------
+    spec : (str, str, float)
+        Result name, operator and value in SI units, as :func:`parse_spec` returns.
+    """
+    name, op, value = spec
+    return f"{name}{op}{value:.12g}"
+
+
+def _compare(v: np.ndarray, op: str, x: float) -> np.ndarray:
+    with np.errstate(invalid="ignore"):
+        if op == ">=":
+            return v >= x
+        if op == "<=":
+            return v <= x
+        if op == ">":
+            return v > x
+        if op == "<":
+            return v < x
+    raise InputError(f"spec: unknown operator {op!r}; expected one of {', '.join(_OPS)}")
+
+
+def check_specs(values: Mapping[str, np.ndarray], specs) -> tuple[np.ndarray, tuple[str, int] | None]:
+    """Which samples meet every specification.
+
+    Parameters
+    ----------
+    values : mapping of str -> ndarray (N,)
+        Per-sample results (as :attr:`devmodels.spread.SpreadResult.values`).  A NaN (no value:
+        the sample has no small-signal point) fails every specification on that result.
+    specs : iterable of str or (name, op, value)
+        Specifications (:func:`parse_spec`).
+
+    Returns
+    -------
+    mask : ndarray of bool (N,)
+        True where a sample meets them all.
+    most_failing : (str, int) or None
+        The specification that fails most often (as :func:`spec_text`) and how often; ``None``
+        when every sample passes (or there are no specifications).
+    """
+    parsed = []
+    for s in specs:
+        if isinstance(s, str):
+            s = parse_spec(s, results=tuple(values))
+        name, op, x = s
+        if name not in values:
+            raise InputError(f"spec: {name!r} is not a result; expected one of {', '.join(values)}")
+        parsed.append((name, op, float(x)))
+    n = len(next(iter(values.values()))) if values else 0
+    mask = np.ones(n, dtype=bool)
+    worst, count = None, 0
+    for spec in parsed:
+        ok = _compare(np.asarray(values[spec[0]], dtype=float), spec[1], spec[2])
+        mask &= ok
+        fails = int(ok.size - np.count_nonzero(ok))
+        if fails > count:
+            worst, count = spec_text(spec), fails
+    return mask, (None if worst is None else (worst, count))
+
+
+def worst_case_pass(worst: Mapping[str, Mapping], specs) -> bool:
+    """Whether every specification holds over the whole box of limits.
+
+    A lower limit (``>=``, ``>``) is checked against ``worst_min``, an upper one against
+    ``worst_max`` (from :func:`worst_case`); a result without a worst value fails.
+
+    Parameters
+    ----------
+    worst : mapping of str -> dict
+        As :func:`worst_case` returns.
+    specs : iterable of str or (name, op, value)
+    """
+    for s in specs:
+        name, op, x = parse_spec(s, results=tuple(worst)) if isinstance(s, str) else s
+        if name not in worst:
+            raise InputError(f"spec: {name!r} is not a result; expected one of {', '.join(worst)}")
+        w = worst[name].get("worst_min" if op in (">=", ">") else "worst_max")
+        if w is None or not math.isfinite(w) or not bool(_compare(np.asarray(w, dtype=float), op, float(x))):
+            return False
+    return True
+
+
+# --- streaming quantiles ------------------------------------------------------------------------
+class _Hist:
+    """Histogram of one result on the asinh grid (see the module docstring)."""
+
+    __slots__ = ("w", "s", "counts", "offset", "n", "nan", "vmin", "vmax", "_cum", "max_bins")
+
+    def __init__(self, w: float, max_bins: int):
+        self.w = w
+        self.s: float | None = None
+        self.counts = np.zeros(0, dtype=np.int64)
+        self.offset = 0
+        self.n = 0
+        self.nan = 0
+        self.vmin = math.inf
+        self.vmax = -math.inf
+        self._cum = None
+        self.max_bins = max_bins
+
+    def _index(self, v: np.ndarray) -> np.ndarray:
+        if self.s is None:
+            return np.zeros(v.size, dtype=np.int64)  # only zeros so far: u = 0 on any scale
+        return np.floor(np.arcsinh(v / self.s) / self.w).astype(np.int64)
+
+    def _coarsen(self) -> None:
+        if not self.counts.size:
+            self.w *= 2.0
+            return
+        idx = np.arange(self.counts.size, dtype=np.int64) + self.offset
+        new = idx // 2
+        base = int(new[0]) if new.size else 0
+        self.counts = np.bincount(new - base, weights=self.counts, minlength=1).astype(np.int64)
+        self.offset = base
+        self.w *= 2.0
+
+    def update(self, v: np.ndarray) -> None:
+        v = np.asarray(v, dtype=float).ravel()
+        fin = np.isfinite(v)
+        self.nan += int(v.size - fin.sum())
+        v = v[fin]
+        if v.size == 0:
+            return
+        self._cum = None
+        self.vmin = min(self.vmin, float(v.min()))
+        self.vmax = max(self.vmax, float(v.max()))
+        if self.s is None:
+            nz = np.abs(v[v != 0])
+            if nz.size:
+                self.s = 0.01 * float(nz.min())
+        while True:
+            idx = self._index(v)
+            lo, hi = int(idx.min()), int(idx.max())
+            if self.counts.size:
+                lo, hi = min(lo, self.offset), max(hi, self.offset + self.counts.size - 1)
+            if hi - lo + 1 <= self.max_bins:
+                break
+            self._coarsen()
+        if not self.counts.size:
+            self.offset = lo
+            self.counts = np.zeros(hi - lo + 1, dtype=np.int64)
+        elif lo < self.offset or hi >= self.offset + self.counts.size:
+            span = hi - lo + 1
+            margin = min(span // 4, max(0, self.max_bins - span))
+            new_lo = lo - (margin // 2 if lo < self.offset else 0)
+            new_hi = hi + (margin - margin // 2 if hi >= self.offset + self.counts.size else 0)
+            grown = np.zeros(new_hi - new_lo + 1, dtype=np.int64)
+            grown[self.offset - new_lo: self.offset - new_lo + self.counts.size] = self.counts
+            self.counts, self.offset = grown, new_lo
+        self.counts += np.bincount(idx - self.offset, minlength=self.counts.size)
+        self.n += int(v.size)
+
+    def order_stat(self, k: np.ndarray) -> np.ndarray:
+        """Estimates of the k-th smallest values (0-based)."""
+        if self._cum is None:
+            self._cum = np.cumsum(self.counts)
+        b = np.searchsorted(self._cum, k + 1, side="left")
+        u = (b + self.offset + 0.5) * self.w
+        est = np.zeros(k.shape) if self.s is None else self.s * np.sinh(u)  # only zeros: 0
+        est = np.clip(est, self.vmin, self.vmax)
+        est = np.where(k == 0, self.vmin, est)
+        return np.where(k == self.n - 1, self.vmax, est)
+
+
+class StreamingSummary:
+    """Quantiles of each result over many chunks of samples in bounded memory (module docstring).
+
+    Parameters
+    ----------
+    results : iterable of str, optional
+        Names summarised (default: the keys of the first chunk).
+    rel_width : float
+        Bin width on the asinh grid: the relative width of the bins for values well away from
+        zero (default 1e-4).
+    max_bins : int
+        Most bins kept per result; beyond it bins are merged in pairs.
+
+    Examples
+    --------
+    >>> s = StreamingSummary(["av"])
+    >>> s.update({"av": np.array([10.0, 20.0, 30.0])})
+    >>> float(s.quantile("av", 0.0)), float(s.quantile("av", 1.0))
+    (10.0, 30.0)
+    """
+
+    def __init__(self, results: Iterable[str] | None = None, rel_width: float = REL_WIDTH,
+                 max_bins: int = 1 << 20):
+        if not (math.isfinite(rel_width) and 0 < rel_width <= 0.1):
+            raise InputError(f"rel_width: expected a bin width in (0, 0.1], got {rel_width!r}")
+        if isinstance(max_bins, bool) or not isinstance(max_bins, int) or max_bins < 16:
+            raise InputError(f"max_bins: expected a whole number >= 16, got {max_bins!r}")
+        self.rel_width = float(rel_width)
+        self.max_bins = max_bins
+        self._h: dict[str, _Hist] = {}
+        if results is not None:
+            for r in results:
+                self._h[r] = _Hist(self.rel_width, max_bins)
+
+    @property
+    def results(self) -> tuple[str, ...]:
+        """The names summarised."""
+        return tuple(self._h)
+
+    def update(self, values: Mapping[str, np.ndarray]) -> None:
+        """Add one chunk of samples.
+
+        Parameters
+        ----------
+        values : mapping of str -> ndarray
+            Result name -> the chunk's samples (NaN or infinite: no value, counted by
+            :meth:`missing`).
+        """
+        if not self._h:
+            for r in values:
+                self._h[r] = _Hist(self.rel_width, self.max_bins)
+        for r, h in self._h.items():
+            if r in values:
+                h.update(values[r])
+
+    def _get(self, name: str) -> _Hist:
+        try:
+            return self._h[name]
+        except KeyError:
+            raise InputError(f"result: {name!r} is not summarised; expected one of {', '.join(self._h)}") from None
+
+    def count(self, name: str) -> int:
+        """Samples with a finite value of the result ``name``.
+
+        Parameters
+        ----------
+        name : str
+            A summarised result.
+        """
+        return self._get(name).n
+
+    def missing(self, name: str) -> int:
+        """Samples without a value (NaN or infinite) of the result ``name``.
+
+        Parameters
+        ----------
+        name : str
+            A summarised result.
+        """
+        return self._get(name).nan
+
+    def quantile(self, name: str, q):
+        """Quantile(s) of a result, as numpy's default ('linear') method would give them.
+
+        Parameters
+        ----------
+        name : str
+            A summarised result.
+        q : float or array_like
+            Quantiles as fractions from 0 to 1 (0 and 1 give the exact minimum and maximum).
+
+        Returns
+        -------
+        float or ndarray
+            The estimates (NaN when no finite value was seen); error at most
+            :meth:`error_bound`.
+        """
+        h = self._get(name)
+        qa = np.asarray(q, dtype=float)
+        if np.any(~np.isfinite(qa)) or np.any((qa < 0) | (qa > 1)):
+            raise InputError(f"q: expected quantiles from 0 to 1, got {q!r}")
+        if h.n == 0:
+            out = np.full(qa.shape, np.nan)
+        else:
+            pos = qa * (h.n - 1)
+            k = np.floor(pos).astype(np.int64)
+            frac = pos - k
+            a = h.order_stat(k)
+            b = h.order_stat(np.minimum(k + 1, h.n - 1))
+            out = a + frac * (b - a)
+        return float(out) if out.ndim == 0 else out
+
+    def error_bound(self, name: str, value) -> float:
+        """Bound on the error of a quantile near ``value``: ``w * sqrt(value**2 + s**2)``.
+
+        Parameters
+        ----------
+        name : str
+            A summarised result.
+        value : float
+            The quantile (or a value near it), in the result's unit.
+
+        Returns
+        -------
+        float
+            ``w`` is the current bin width (``rel_width``, doubled by each merge of bins) and
+            ``s`` the scale of the grid; 0 while only zeros were seen (then exact).
+        """
+        h = self._get(name)
+        if h.s is None:
+            return 0.0
+        return h.w * math.hypot(float(value), h.s)
+
+    def stats(self) -> dict[str, dict | None]:
+        """``{"min", "p5", "p50", "p95", "max"}`` per result (``None`` with no finite value)."""
+        from .spread import QUANTILES
+
+        out = {}
+        for r, h in self._h.items():
+            if h.n == 0:
+                out[r] = None
+                continue
+            q = self.quantile(r, np.array(list(QUANTILES.values())) / 100.0)
+            out[r] = {k: float(x) for k, x in zip(QUANTILES, q)}
+        return out

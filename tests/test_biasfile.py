@@ -1,0 +1,76 @@
+"""TOML bias files (devmodels.biasfile): what is accepted and every way a file is refused."""
+
+from __future__ import annotations
+
+import os
+
+import pytest
+
+from devmodels.biasfile import MAX_BYTES, load_bias_file
+from devmodels.exceptions import FileFormatError
+
+
+def _file(tmp_path, text, name="b.toml", raw=None):
+    p = tmp_path / name
+    if raw is not None:
+        p.write_bytes(raw)
+    else:
+        p.write_text(text, encoding="utf-8")
+    return p
+
+
+def test_flat_keys_and_network_table(tmp_path):
+    p = _file(tmp_path, 'device = "npn"\nbeta = 200\nvce-sat = "0.2V"\ntemp = "27C"\n'
+                        '[network]\ntype = "divider"\nvcc = 12\nr1 = "68k"\nr2 = "12k"\nvbe-tc = "-2mV/K"\n')
+    flat, tables = load_bias_file(p)
+    assert flat == {"device": "npn", "beta": 200, "vce_sat": "0.2V", "temp": "27C"}
+    assert tables == {"network": {"type": "divider", "vcc": 12, "r1": "68k", "r2": "12k", "vbe_tc": "-2mV/K"}}
+
+
+def test_utf8_byte_order_mark_is_accepted(tmp_path):
+    p = _file(tmp_path, None, raw=b"\xef\xbb\xbfic = \"1mA\"\nbeta = 100\n")
+    assert load_bias_file(p)[0] == {"ic": "1mA", "beta": 100}
+
+
+@pytest.mark.parametrize("text,needle", [
+    ('[netwrok]\ntype = "divider"\n', "unknown table [netwrok]; did you mean [network]?"),
+    ("betta = 100\n", "unknown key 'betta'; did you mean 'beta'?"),
+    ("z0 = 50\n", "unknown key 'z0'"),
+    ('[network]\ntpye = "fixed"\n', "unknown key 'tpye' in [network]; did you mean 'type'?"),
+    ("vce_sat = 0.3\nvce-sat = 0.2\n", "'vce_sat' and 'vce-sat' are the same key"),
+    ("beta = {a = 1}\n", "beta: expected a number"),
+    ("beta = {a = 1}\n", "got a table"),
+    ("beta = [1, 2]\n", "got an array"),
+    ("beta = true\n", "got a boolean"),
+    ("device = 3\n", "device: expected text, got a number"),
+    ("network = 5\n", "network: expected a table [network], got a number"),
+    ("[network.inner]\nvcc = 1\n", "tables inside [network] are not used"),
+    ("ic = [1, \n", "not a valid TOML"),
+    ("a = " + "[" * 3000 + "]" * 3000 + "\n", "nested too deeply"),
+])
+def test_refused_files_say_why(tmp_path, text, needle):
+    with pytest.raises(FileFormatError) as exc:
+        load_bias_file(_file(tmp_path, text))
+    assert needle in str(exc.value) and str(exc.value).startswith(str(tmp_path)), str(exc.value)
+
+
+def test_not_utf8(tmp_path):
+    with pytest.raises(FileFormatError, match="not UTF-8"):
+        load_bias_file(_file(tmp_path, None, raw=b"beta = \xff\n"))
+
+
+def test_only_regular_files_are_read(tmp_path):
+    fifo = tmp_path / "pipe.toml"
+    os.mkfifo(fifo)  # opening it for reading would block: the reader must not open it
+    with pytest.raises(FileFormatError, match="not a regular file"):
+        load_bias_file(fifo)
+    with pytest.raises(FileFormatError, match="is a directory"):
+        load_bias_file(tmp_path)
+    with pytest.raises(FileFormatError, match="cannot read"):
+        load_bias_file(tmp_path / "missing.toml")
+
+
+def test_size_limit(tmp_path):
+    p = _file(tmp_path, "# " + "x" * MAX_BYTES + "\n")
+    with pytest.raises(FileFormatError, match="too large for a bias file"):
+        load_bias_file(p)
