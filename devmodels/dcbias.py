@@ -299,7 +299,21 @@ class OperatingPoint:
 
 def rating_warnings(power: float, vce: float, vcc: float, *, pmax: float | None = None,
                     vceo: float | None = None, where: str = "") -> list[str]:
-    """Sentences for every rating exceeded (magnitudes in W and V; ``where`` qualifies them)."""
+    """Sentences for every rating exceeded.
+
+    Parameters
+    ----------
+    power : float
+        Dissipation in W.
+    vce : float
+        Collector-emitter (drain-source) voltage magnitude in V.
+    vcc : float
+        Supply magnitude in V (a cut-off transistor sees all of it; 0: no network).
+    pmax, vceo : float or None
+        The power rating in W and the breakdown rating VCEO in V (None: not given).
+    where : str
+        Words that qualify the sentences (e.g. " at the worst sample").
+    """
     out = []
     burn = "a part run hot or overstressed can fail and burn: check the datasheet and the circuit"
     if pmax is not None and power > pmax:

@@ -448,6 +448,23 @@ def write_by_extension(tp: TwoPort, path, polar: bool = False, version: str | No
     Touchstone 1.1, or 2.0 when ``version`` says so or S has a different reference per port;
     ``.ts``: Touchstone 2.0; ``.csv``; ``.json``.
 
+    Parameters
+    ----------
+    tp : TwoPort
+        The parameters.
+    path : str or Path
+        Output file; its extension chooses the format.
+    polar : bool or str
+        The number format (:func:`number_format`): ri, ma or db.
+    version : str or None
+        Touchstone version ("1.1" or "2.0"); None: by the extension and the references.
+    comment : str
+        Comment lines for Touchstone and CSV (what the file holds).
+    extra_json : dict or None
+        More top-level keys for JSON.
+    option : str
+        Option name that starts an error message.
+
     Raises
     ------
     InputError

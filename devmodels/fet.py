@@ -19,7 +19,7 @@ from typing import ClassVar
 
 import numpy as np
 
-from .constants import BJT_CONFIGS, BOLTZMANN, FET_CONFIGS
+from .constants import BOLTZMANN, FET_CONFIGS
 from .exceptions import InputError
 from .fetbias import FET_DEVICES, JfetBias, MosfetBias
 from .models import check_elements
@@ -172,23 +172,3 @@ class FetModel:
         if np.any(np.asarray(self.flicker_corner) > 0):
             noise.append(noise_current("flicker_channel", d, s, channel * self.flicker_corner, kind="flicker"))
         return Netlist(tuple(elements + noise))
-
-
-# --- kept only until the command line stops asking (it is being rewritten) ---------------
-def is_fet_model(model) -> bool:
-    """True for a :class:`FetModel`."""
-    return isinstance(model, FetModel)
-
-
-def check_device_config(model, config: str) -> str:
-    """Refuse a configuration of the wrong family: cs/cg/cd for FETs, ce/cb/cc for bipolars."""
-    if is_fet_model(model):
-        if config in BJT_CONFIGS:
-            raise InputError(f"config: {config!r} is a bipolar configuration; for a FET "
-                             f"({model.device}) use {', '.join(FET_CONFIGS)}")
-        if config not in FET_CONFIGS:
-            raise InputError(f"config: unknown configuration {config!r}, expected one of {', '.join(FET_CONFIGS)}")
-    elif config in FET_CONFIGS:
-        raise InputError(f"config: {config!r} is a FET configuration; for a bipolar device use "
-                         f"{', '.join(BJT_CONFIGS)}")
-    return config

@@ -367,7 +367,8 @@ def atomic_write_chunks(path, chunks: Iterable, *, option: str = "out") -> Path:
 def atomic_write_text(path, text: str, *, option: str = "out") -> Path:
     """Write ``text`` (UTF-8, newlines as given) to ``path`` atomically.
 
-    See :func:`atomic_writer` for the rules; raises :class:`OutputError`.
+    See :func:`atomic_writer` for the rules; raises :class:`OutputError` whose message starts
+    with ``option`` (the name of the option or parameter that named the file).
     """
     return atomic_write_chunks(path, (text,), option=option)
 
@@ -375,6 +376,7 @@ def atomic_write_text(path, text: str, *, option: str = "out") -> Path:
 def atomic_write_bytes(path, data: bytes, *, option: str = "out") -> Path:
     """Write ``data`` to ``path`` atomically.
 
-    See :func:`atomic_writer` for the rules; raises :class:`OutputError`.
+    See :func:`atomic_writer` for the rules; raises :class:`OutputError` whose message starts
+    with ``option`` (the name of the option or parameter that named the file).
     """
     return atomic_write_chunks(path, (data,), option=option)

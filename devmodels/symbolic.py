@@ -31,7 +31,7 @@ from .configs import CONFIG_TERMINALS
 from .exceptions import InputError
 from .netlist import NOISE_KINDS
 
-__all__ = ["Formula", "derive", "element_values", "engine_check", "EngineCheck", "RESULTS", "EXTERNAL",
+__all__ = ["Formula", "derive", "derive_stage", "element_values", "engine_check", "EngineCheck", "RESULTS", "EXTERNAL",
            "model_class"]
 
 #: Results that can be derived.
@@ -126,31 +126,34 @@ def _cond(name: str):
     return _symbol(_G + name)
 
 
-def _circuit(config: str, present: frozenset, low_frequency: bool):
-    """Nodes and stamps of the stage's netlist: (nodes, passive list, vccs list, p1, p2, reference)."""
+def _structure(stage) -> tuple:
+    """What a derivation depends on: the stage's elements (kind, name, nodes) and its port nodes."""
+    net = stage.netlist()
+    elements = tuple((e.kind, e.name, e.nodes) for e in net.elements if e.kind not in NOISE_KINDS)
+    ports = tuple(stage.terminals[i] for i in CONFIG_TERMINALS[stage.config])
+    return elements, ports
+
+
+def _circuit(structure: tuple, low_frequency: bool):
+    """Nodes and stamps of a netlist structure: (nodes, passive list, vccs list, p1, p2, reference)."""
     import sympy as sp
 
-    from .stage import Stage
-
-    cls = model_class(config)
-    stage = Stage(cls.placeholder(present), config, rdeg=1.0 if "rdeg" in present else 0.0,
-                  rfb=1.0 if "rfb" in present else None)
-    net = stage.netlist()
+    elements, (p1, p2, k) = structure
     s = sp.Symbol("s")
     passive: list[tuple[str, str, object]] = []
     vccs: list[tuple[str, str, str, str, object]] = []
-    for el in net.elements:
-        if el.kind in NOISE_KINDS:
-            continue  # noise sources stamp nothing into the nodal matrix
-        if el.kind == "resistor":
-            passive.append((el.nodes[0], el.nodes[1], _cond(el.name)))
-        elif el.kind == "capacitor":
+    seen: dict[str, None] = {}
+    for kind, name, nodes in elements:
+        for n in nodes:
+            seen.setdefault(n, None)
+        if kind == "resistor":
+            passive.append((nodes[0], nodes[1], _cond(name)))
+        elif kind == "capacitor":
             if not low_frequency:
-                passive.append((el.nodes[0], el.nodes[1], s * _symbol(el.name)))
+                passive.append((nodes[0], nodes[1], s * _symbol(name)))
         else:
-            vccs.append((*el.nodes, _symbol(el.name)))
-    p1, p2, k = (stage.terminals[i] for i in CONFIG_TERMINALS[config])
-    nodes = [n for n in net.nodes if n != k]
+            vccs.append((*nodes, _symbol(name)))
+    nodes = [n for n in seen if n != k]
     for t in (p1, p2):  # a port terminal with no element (a FET's gate with no capacitance) stays a node
         if t not in nodes:
             nodes.append(t)
@@ -299,17 +302,48 @@ def derive(config: str, result: str, elements=None, *, rs: bool = True, rl: bool
                          f"({', '.join(allowed)})")
     if result == "ai" and not rl:
         raise InputError("rl: the current gain -I2/I1 needs a load resistance R_L")
-    expr = _derive(config, result, frozenset(present), rs, rl, low_frequency)
+    from .stage import Stage
+
+    stage = Stage(cls.placeholder(present), config, rdeg=1.0 if "rdeg" in present else 0.0,
+                  rfb=1.0 if "rfb" in present else None)
+    return _formula(stage, result, rs, rl, low_frequency)
+
+
+def _formula(stage, result: str, rs: bool, rl: bool, low_frequency: bool) -> Formula:
+    expr = _derive(_structure(stage), result, rs, rl, low_frequency)
     names = tuple(sorted(str(x) for x in expr.free_symbols if str(x) != "s")) if expr is not None else ()
-    return Formula(result, config, expr, names + ("s",))
+    return Formula(result, stage.config, expr, names + ("s",))
+
+
+def derive_stage(stage, result: str, *, rs: bool = True, rl: bool = True,
+                 low_frequency: bool = False) -> Formula:
+    """Derive ``result`` of a given stage (its own netlist: device, rdeg, rfb and its network).
+
+    Every element present in the stage's netlist is a symbol named by its key (``gm``,
+    ``r_pi``, ``r1``, ``c_in``, ...).
+
+    Parameters
+    ----------
+    stage : Stage
+        The stage; its element values are not used, only which elements it has.
+    result : {'av', 'avs', 'ai', 'zin', 'zout'}
+        The result wanted.
+    rs, rl, low_frequency : bool
+        As in :func:`derive`.
+    """
+    if result not in RESULTS:
+        raise InputError(f"result: unknown result {result!r}, expected one of {', '.join(RESULTS)}")
+    if result == "ai" and not rl:
+        raise InputError("rl: the current gain -I2/I1 needs a load resistance R_L")
+    return _formula(stage, result, rs, rl, low_frequency)
 
 
 @functools.lru_cache(maxsize=256)
-def _derive(config: str, result: str, present: frozenset, rs: bool, rl: bool, low_frequency: bool):
+def _derive(structure: tuple, result: str, rs: bool, rl: bool, low_frequency: bool):
     """The simplified expression (cached: a derivation with many elements takes seconds)."""
     import sympy as sp
 
-    nodes, passive, vccs, p1, p2, ref = _circuit(config, present, low_frequency)
+    nodes, passive, vccs, p1, p2, ref = _circuit(structure, low_frequency)
     GS, GL = _cond("R_S"), _cond("R_L")
     load = [(p2, ref, GL)] if rl and result != "zout" else []
     expr = None
@@ -406,7 +440,7 @@ def engine_check(formula: Formula, stage, freq: float, rs: float | None, rl: flo
     from .analysis import terminate
     from .exceptions import SingularParameterError
 
-    ev = element_values(stage.model, rdeg=stage.rdeg, rfb=stage.rfb)
+    ev = {e.name: float(e.value) for e in stage.netlist().elements if e.kind not in NOISE_KINDS}
     if rs is not None:
         ev["R_S"] = rs
     if rl is not None:

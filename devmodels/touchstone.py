@@ -160,6 +160,8 @@ class TouchstoneData:
     def s(self, config: str | None = None) -> TwoPort:
         """S parameters at the file's reference resistances, labelled with the file name.
 
+        ``config`` is the configuration label of the result (None: none).
+
         Raises
         ------
         SingularParameterError

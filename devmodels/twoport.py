@@ -100,7 +100,7 @@ class TwoPort:
         return msg
 
     def element(self, name: str) -> np.ndarray:
-        """One element over frequency: ``'11'``, ``'12'``, ``'21'`` or ``'22'``."""
+        """One element over frequency; ``name`` is ``'11'``, ``'12'``, ``'21'`` or ``'22'``."""
         if name not in ("11", "12", "21", "22"):
             raise InputError(f"element: expected 11, 12, 21 or 22, got {name!r}")
         return self.data[:, int(name[0]) - 1, int(name[1]) - 1]
@@ -108,7 +108,8 @@ class TwoPort:
     def to_skrf(self, name: str | None = None):
         """A :class:`skrf.Network` of these parameters (S at this two-port's z0).
 
-        Frequency-independent parameters are given the single frequency 0 Hz.
+        Frequency-independent parameters are given the single frequency 0 Hz; ``name`` is the
+        network's name (default: the label or the configuration).
         """
         import skrf
 

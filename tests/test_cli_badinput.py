@@ -116,7 +116,6 @@ def test_error_names_the_option_value(capsys):
         (["model", FET, "--vov", "1e-308"], "vov: '1e-308' is outside"),
         (["gain", BJT, "--rs", "50+j"], "rs: the imaginary part"),
         (["formula", BJT, "--rs", "50+j10"], "rs: the formula takes a resistance"),
-        (["spread", "--ic", "1mA", "--vce", "5", "--beta", "100", "--rs", "50+j10"], "rs: spread takes a resistance"),
         (["sweep", BJT, "-n", "1e23"], "points: expected a whole number"),
         (["model", BJT, "--device", ""], "device: expected one of npn, pnp, nmos, pmos, njfet, pjfet"),
     ]:

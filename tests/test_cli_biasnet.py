@@ -224,3 +224,12 @@ def test_bad_network_files_are_one_line(run, tmp_path, case, cmd):
     expected = {"unknown_key": "net.toml: unknown key", "ic_and_network": "devmodels: error: ic: ",
                 "saturated": "devmodels: error: network: ", "cutoff": "devmodels: error: network: "}[case]
     assert expected in err
+
+
+def test_spread_takes_complex_terminations(run_json):
+    # As every command that terminates a stage: --rs 50+j10 (the library checks each sample
+    # against analysis.terminate in tests/test_spread.py).
+    d = run_json("spread", "--ic", "1mA", "--vce", "5", "--beta-min", "100", "--beta-max", "300",
+                 "--rs", "50+j10", "--rl", "1k-j200", "--samples", "500", "--seed", "1")
+    assert d["rs"] == [50.0, 10.0] and d["rl"] == [1000.0, -200.0]
+    assert d["avs"]["min"] <= d["avs"]["p50"] <= d["avs"]["max"]

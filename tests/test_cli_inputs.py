@@ -63,9 +63,9 @@ def test_cascade_points_are_gain_points(run_json, tmp_path):
     assert cx(d["points"][0]["avs"]) == pytest.approx(complex(chain.total.avs[0]), rel=1e-12)
 
 
-def test_formula_and_spread_refuse_complex_terminations_in_one_line(run):
+def test_formula_refuses_complex_terminations_in_one_line(run):
+    # (spread takes them: tests/test_cli_biasnet.py)
     assert_one_line_error(run, "formula", *BIAS, "--rs", "50+j10", prefix="rs: the formula takes a resistance")
-    assert_one_line_error(run, "spread", *BIAS, "--rl", "1k+j5", "-n", "100", prefix="rl: spread takes a resistance")
 
 
 def test_pnp_sign_is_the_same_in_model_and_bias(run_json):

@@ -137,3 +137,22 @@ def test_latex_and_errors():
         derive("cx", "av")
     with pytest.raises(dm.InputError, match="values: missing"):
         derive("ce", "av").value({"gm": 1.0})
+
+
+def test_stage_with_its_network_in_symbols():
+    # A stage as built (divider, RC, partly bypassed RE, coupling capacitors) derived from its
+    # own netlist (derive_stage) against the numeric engine, and the network's elements appear
+    # as symbols named by their keys.
+    from devmodels.stagenetwork import StageNetwork
+    from devmodels.symbolic import derive_stage, engine_check
+
+    m = dm.HybridPi(gm=0.04, r_pi=2.5e3, ro=60e3, rb=50.0)
+    net = StageNetwork("divider", r1=47e3, r2=10e3, rc=4.7e3, re=1.2e3, re_bypassed=1e3, c_bypass=22e-6,
+                       c_in=1e-6)
+    st = dm.Stage(m, "ce", network=net)
+    f = derive_stage(st, "avs", rl=True, rs=True)
+    names = {str(x) for x in f.expr.free_symbols}
+    assert {"r1", "r2", "rc", "re_unbypassed", "re_bypassed", "c_bypass", "c_in"} <= names
+    for freq in (3.0, 300.0, 30e3):
+        chk = engine_check(f, st, freq, 600.0, 10e3)
+        assert chk.rel_diff < 1e-9

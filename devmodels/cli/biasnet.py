@@ -19,7 +19,7 @@ from ..units import format_si, parse_count, shown
 from .app import command
 from .inputs import BIAS_KEYS, SPREAD_KEYS, Inputs, bias_options, check_config, parse_freq, parse_z0, terminations
 from .options import JsonOpt, OneFreqOpt, RlOpt, RsOpt, Z0Opt
-from .render import emit_json, note, print_table, warn, zstr
+from .render import emit_json, note, print_table, warn, zjson, zstr
 
 #: Runs with more samples than this show a progress bar (on a terminal, never with --json).
 PROGRESS_SAMPLES = 200_000
@@ -125,12 +125,7 @@ def spread_cmd(
     n = parse_count(samples, "samples", MAX_SAMPLES)
     seed_v = None if seed is None else parse_count(seed, "seed", 2 ** 63 - 1, minimum=0)
     zs, zl = terminations(rs, rl)
-    for name, z, text in (("rs", zs, rs), ("rl", zl, rl)):
-        if z.imag != 0:  # the spread library (spread.SpreadSetup, plotting_spread) takes resistances
-            raise InputError(f"{name}: spread takes a resistance, not the complex impedance {shown(text)}; "
-                             "use 'devmodels gain' or 'compare' for complex terminations")
-    setup, ranges = bias_in.spread(check_config(config), parse_freq(freq), zs.real, zl.real, parse_z0(z0), n,
-                                   seed_v)
+    setup, ranges = bias_in.spread(check_config(config), parse_freq(freq), zs, zl, parse_z0(z0), n, seed_v)
     result = _run_with_progress(run_spread, setup, ranges, show=not as_json and n > PROGRESS_SAMPLES)
     for w in result.warnings:
         warn(w)
@@ -171,7 +166,7 @@ def _spread_json(result, plot: Path | None) -> dict[str, Any]:
     out.update(result.stats)
     out.update({
         "corners": result.corners, "regions": result.regions, "config": s.config, "freq": s.freq,
-        "rs": s.rs, "rl": None if math.isinf(s.rl) else s.rl,
+        "rs": zjson(complex(s.rs)), "rl": zjson(complex(s.rl)),
         "network": None if s.network is None else s.network.kind,
         "ranges": {"beta_min": r.beta_min, "beta_max": r.beta_max, "beta_typ": r.beta_typ,
                    "temp_min": r.temp_min, "temp_max": r.temp_max, "tol": r.tol * 100},

@@ -270,45 +270,23 @@ def formula_cmd(
     if low_frequency and freq is not None:
         raise InputError("freq: --low-frequency evaluates the formula at 0 Hz (no capacitances); drop --freq")
     f = 0.0 if low_frequency else (parse_freq(freq) if freq is not None else DEFAULT_FREQ)
-    from ..symbolic import derive, element_values
+    from ..symbolic import derive, derive_stage, engine_check
 
-    values = None
+    flags = dict(rs=rs_v is not None, rl=rl_v is not None, low_frequency=low_frequency)
+    st = None
     if bias_in.given():
         st = bias_in.stage(config)
         config = st.config
-        values = element_values(st.model, rdeg=st.rdeg, rfb=st.rfb)
-        elements = set(values)
+        formula = derive_stage(st, result, **flags)
     else:
-        elements = None
         config = config or "ce"
-    formula = derive(config, result, elements, rs=rs_v is not None, rl=rl_v is not None,
-                     low_frequency=low_frequency)
+        formula = derive(config, result, None, **flags)
     out = {"result": result, "config": config, "expression": None if formula.expr is None else formula.text(),
            "latex": formula.latex() if formula.expr is not None else None, "low_frequency": low_frequency}
-    if values is not None:
-        from ..analysis import terminate
-
-        ev = dict(values)
-        if rs_v is not None:
-            ev["R_S"] = rs_v
-        if rl_v is not None:
-            ev["R_L"] = rl_v
-        used = {str(x) for x in formula.expr.free_symbols} if formula.expr is not None else set()
-        val = formula.value(ev, f)
-        from ..exceptions import SingularParameterError
-
-        try:
-            with np.errstate(invalid="ignore", divide="ignore"):  # NaN = does not exist, shown as open
-                tr = terminate(st.two_port([f]), 0.0 if rs_v is None else rs_v,
-                               math.inf if rl_v is None else rl_v)
-            eng = complex(getattr(tr, result)[0])
-        except SingularParameterError:  # the chain parameters do not exist at this point
-            eng = complex("nan")
-        eng_ok = math.isfinite(eng.real) and math.isfinite(eng.imag)
-        rel = (abs(val - eng) / abs(eng) if val is not None and eng_ok and eng != 0 else
-               (0.0 if val is None and not eng_ok else None))
-        out.update(freq=f, symbols={k: v for k, v in ev.items() if k in used}, value=val,
-                   engine=eng if eng_ok else None, rel_diff=rel)
+    if st is not None:  # the formula's value beside the numeric engine's (symbolic.engine_check)
+        chk = engine_check(formula, st, f, rs_v, rl_v)
+        val, eng = chk.value, (complex("nan") if chk.engine is None else chk.engine)
+        out.update(freq=f, symbols=chk.symbols, value=val, engine=chk.engine, rel_diff=chk.rel_diff)
     if as_json:
         emit_json(out)
         return
@@ -316,10 +294,12 @@ def formula_cmd(
     stdout(f"{result} of the {config.upper()} stage{' at low frequency' if low_frequency else ''} "
         f"(s = j 2 pi f):\n")
     stdout("  " + (formula.latex() if latex else formula.text()) + "\n")
-    if values is None:
+    if st is None:
         return
-    units = {"g": "S", "r": "Ω", "R": "Ω", "C": "F"}
-    rows = [[k, format_si(v, units.get(k[0], ""))] for k, v in out["symbols"].items()]
+    kinds = {e.name: e.kind for e in st.netlist().elements}
+    unit_of = {"resistor": "Ω", "capacitor": "F", "vccs": "S"}
+    rows = [[k, format_si(v, "Ω" if k in ("R_S", "R_L") else unit_of.get(kinds.get(k), ""))]
+            for k, v in out["symbols"].items()]
     show = imp_text if unit else gain_text
     rows.append([f"{result} (formula)", show(val)])
     rows.append([f"{result} (numeric engine)", show(eng)])
