@@ -1,30 +1,39 @@
-"""Speed and memory of devmodels.spread for many samples at one frequency.
+"""Speed and memory of devmodels.spread at two sample counts, side by side.
 
-Prints samples per second and the peak traced memory of ``run_spread`` (a divider-biased
-CE stage with every parasitic, beta, temperature and 5 % resistors sampled), beside two
-references measured in the same run:
+A divider-biased CE stage with every parasitic, beta, temperature and 5 % resistors sampled,
+with one specification (so the yield is counted on every sample) and the worst case over
+the box of limits.  Each run is a fresh process, so its peak resident size (the whole
+process: interpreter, numpy and the library included; VmHWM, its resident high-water
+mark) is the run's own; the time is the median over ``--repeat`` runs (``--repeat-large``
+for the larger count).
 
-* the same work through the scalar pipeline (network.operating_point -> HybridPi ->
-  Stage.two_port -> analysis.terminate) for a few hundred samples, extrapolated;
-* one plain copy of the sample inputs and of the stored results (the memory any method
-  keeping every sample needs).
+Rows:
 
-Targets: at least 1e6 samples/s and at most 500 MB.
+* ``streaming``: the values are not kept (statistics from the streaming summary): the
+  memory must not grow with the sample count;
+* ``kept``: every per-sample value kept (the default up to ``KEEP_VALUES_MAX`` samples), at
+  the smaller count only;
+* the scalar pipeline (network.operating_point -> HybridPi -> Stage.two_port ->
+  analysis.terminate) for a few hundred samples, extrapolated, as the reference speed.
 
-    python3 benchmarks/bench_spread.py [--samples 1000000] [--repeat 3] [--scalar 300]
+Targets: 1e8 samples in about a minute (1.7e6 samples/s) and at most 300 MB peak.
+
+    python3 benchmarks/bench_spread.py            # 1e6 and 1e8 samples
+    python3 benchmarks/bench_spread.py --quick    # 1e5 and 1e6 samples
+    python3 benchmarks/bench_spread.py --samples 100000 --repeat 1 --scalar 50   # 1e4 and 1e5
 """
 
 from __future__ import annotations
 
 import argparse
+import json
 import os
 import platform
 import resource
 import statistics
+import subprocess
 import sys
 import time
-import tracemalloc
-
 from pathlib import Path
 
 import numpy as np
@@ -32,46 +41,60 @@ import numpy as np
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from _report import ratio_line  # noqa: E402
 
+DATASHEET = dict(va=75.0, ft=250e6, cmu=2.5e-12, rb=120.0, rcx=3.0, rex=1.0)
+SPEC = "av>=12"
 
-def main() -> None:
-    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--samples", type=int, default=1_000_000)
-    ap.add_argument("--repeat", type=int, default=3)
-    ap.add_argument("--scalar", type=int, default=300, help="samples through the scalar pipeline")
-    args = ap.parse_args()
 
+def _setup():
+    from devmodels.dcbias import BiasNetwork
+    from devmodels.spread import SpreadSetup
+
+    net = BiasNetwork("divider", 12.0, rc=4.7e3, re=1e3, r1=68e3, r2=12e3)
+    return SpreadSetup(config="ce", freq=1e6, rs=50.0, rl=1e3, network=net, rdeg=47.0, **DATASHEET)
+
+
+def _peak_rss() -> float:
+    """Peak resident size of this process in bytes: VmHWM of /proc/self/status on Linux (the
+    high-water mark of this program's own memory; ``ru_maxrss`` would also count the parent's
+    size at the fork), else ``ru_maxrss``."""
+    try:
+        with open("/proc/self/status") as fh:
+            for line in fh:
+                if line.startswith("VmHWM:"):
+                    return float(line.split()[1]) * 1024
+    except OSError:
+        pass
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024.0  # kB on Linux
+
+
+def child(n: int, keep: bool) -> None:
+    """One run in this process; prints a JSON line with the time and the peak resident size."""
+    from devmodels.spread import SpreadRanges, run_spread
+
+    setup = _setup()
+    run_spread(setup, SpreadRanges(110, 450, samples=1000, seed=0))  # warm-up (imports)
+    ranges = SpreadRanges(110, 450, temp_min=253.15, temp_max=343.15, tol=0.05, samples=n, seed=1)
+    t = time.perf_counter()
+    res = run_spread(setup, ranges, specs=[SPEC], keep_values=keep)
+    dt = time.perf_counter() - t
+    rss = _peak_rss()
+    print(json.dumps({"time": dt, "rss": rss, "yield": res.yield_["fraction"],
+                      "p50_bound": res.stats_accuracy["bounds"]["av"]["p50"], "p50": res.stats["av"]["p50"],
+                      "method": res.stats_accuracy["method"]}))
+
+
+def _run(n: int, keep: bool) -> dict:
+    out = subprocess.run([sys.executable, __file__, "--child", str(n)] + (["--keep"] if keep else []),
+                         capture_output=True, text=True, check=True)
+    return json.loads(out.stdout.strip().splitlines()[-1])
+
+
+def _scalar_rate(m: int) -> float:
     import devmodels as dm
     from devmodels.analysis import terminate
     from devmodels.dcbias import BiasNetwork, operating_point
-    from devmodels.spread import CHUNK, RESULTS, WORKERS, SpreadRanges, SpreadSetup, run_spread
 
-    datasheet = dict(va=75.0, ft=250e6, cmu=2.5e-12, rb=120.0, rcx=3.0, rex=1.0)
-    net = BiasNetwork("divider", 12.0, rc=4.7e3, re=1e3, r1=68e3, r2=12e3)
-    setup = SpreadSetup(config="ce", freq=1e6, rs=50.0, rl=1e3, network=net, rdeg=47.0, **datasheet)
-    ranges = SpreadRanges(110, 450, temp_min=253.15, temp_max=343.15, tol=0.05, samples=args.samples, seed=1)
-    n = args.samples
-
-    print(f"machine: {platform.machine()}, {os.cpu_count()} cpus, python {platform.python_version()}, "
-          f"numpy {np.__version__}; {n:,} samples, chunk {CHUNK}, median of {args.repeat}")
-
-    run_spread(setup, SpreadRanges(110, 450, samples=1000, seed=0))  # warm-up (imports)
-    rows = []
-    for workers in sorted({1, WORKERS}):
-        times = []
-        for _ in range(args.repeat):
-            t = time.perf_counter()
-            run_spread(setup, ranges, workers=workers)
-            times.append(time.perf_counter() - t)
-        rows.append((workers, statistics.median(times)))
-
-    tracemalloc.start()
-    res = run_spread(setup, ranges)
-    _, peak = tracemalloc.get_traced_memory()
-    tracemalloc.stop()
-
-    # Reference 1: the scalar pipeline, one sample at a time, extrapolated.
     rng = np.random.default_rng(2)
-    m = args.scalar
     beta = rng.uniform(110, 450, m)
     temp = rng.uniform(253.15, 343.15, m)
     fac = rng.uniform(0.95, 1.05, (m, 5))
@@ -80,34 +103,59 @@ def main() -> None:
         nw = BiasNetwork("divider", 12.0, rc=4.7e3 * fac[i, 2], re=1e3 * fac[i, 3], r1=68e3 * fac[i, 0],
                          r2=12e3 * fac[i, 1])
         op = operating_point(nw, beta[i], temp=temp[i])
-        model = dm.HybridPi.from_bias(op.bipolar_bias(**datasheet))
+        model = dm.HybridPi.from_bias(op.bipolar_bias(**DATASHEET))
         terminate(dm.Stage(model, "ce", 47.0 * fac[i, 4]).two_port([1e6]), 50.0, 1e3)
-    t_scalar = (time.perf_counter() - t) / m
+    return m / (time.perf_counter() - t)
 
-    # Reference 2: one copy of the inputs (beta, temp, 5 resistor factors) and of the results.
-    t = time.perf_counter()
-    inputs = [np.random.default_rng(3).random(n) for _ in range(7)]
-    stored = [v.copy() for v in res.values.values()]
-    t_alloc = time.perf_counter() - t
-    copy_bytes = sum(a.nbytes for a in inputs) + sum(a.nbytes for a in stored)
-    del inputs, stored
 
-    print(f"{'workers':>8} {'time':>9} {'samples/s':>12} {'vs scalar':>10}")
-    for workers, tm in rows:
-        print(f"{workers:>8} {tm:8.3f}s {n / tm:12.3g} {t_scalar * n / tm:9.0f}x")
-    best = min(tm for _, tm in rows)
-    print(f"scalar pipeline: {1 / t_scalar:,.0f} samples/s ({m} samples; {t_scalar * n:,.0f} s for {n:,}, "
-          "extrapolated)")
-    print(f"peak traced memory: {peak / 1e6:.1f} MB; one copy of inputs + {len(RESULTS)} stored results: "
-          f"{copy_bytes / 1e6:.1f} MB (made and filled in {t_alloc:.3f} s); ratio {peak / copy_bytes:.2f}")
-    rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1e3  # kB on Linux
-    print(f"peak resident size of the whole benchmark process (ru_maxrss): {rss:.0f} MB")
-    print(f"result: {n / best:,.0f} samples/s (target >= 1,000,000), peak {peak / 1e6:.0f} MB (target <= 500 MB); "
-          f"regions {res.regions}")
-    ratio_line(f"spread, {n} samples: samples/s (vs scalar pipeline)", f"{n / best:.3g}/s",
-               f"{1 / t_scalar:.3g}/s", t_scalar * n / best, ">= 1e6 samples/s", n / best >= 1e6)
-    ratio_line("spread: peak traced memory / one copy of inputs and results", f"{peak / 1e6:.0f} MB",
-               f"{copy_bytes / 1e6:.0f} MB", peak / copy_bytes, "<= 500 MB", peak <= 500e6)
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="1e5 and 1e6 samples instead of 1e6 and 1e8")
+    ap.add_argument("--samples", type=int, default=None, help="the larger sample count (default 1e8, --quick "
+                    "1e6); the smaller one is 1e6 from 1e7 up, else a tenth")
+    ap.add_argument("--repeat", type=int, default=3, help="runs at the smaller count (median)")
+    ap.add_argument("--repeat-large", type=int, default=None, help="runs at the larger count (default: 1 for "
+                    "1e8, else --repeat)")
+    ap.add_argument("--scalar", type=int, default=300, help="samples through the scalar pipeline")
+    ap.add_argument("--child", type=int, default=None, help=argparse.SUPPRESS)
+    ap.add_argument("--keep", action="store_true", help=argparse.SUPPRESS)
+    args = ap.parse_args()
+    if args.child is not None:
+        child(args.child, args.keep)
+        return
+
+    from devmodels.spread import CHUNK, KEEP_VALUES_MAX, RESULTS, WORKERS
+
+    large = args.samples or (1_000_000 if args.quick else 100_000_000)
+    small = 1_000_000 if large >= 10**7 else max(1, large // 10)
+    rep_large = args.repeat_large or (1 if large >= 10**8 else args.repeat)
+    load = os.getloadavg()
+    print(f"machine: {platform.machine()}, {os.cpu_count()} cpus, load average {load[0]:.1f} (1 min), "
+          f"python {platform.python_version()}, numpy {np.__version__}; chunk {CHUNK}, {WORKERS} workers, "
+          f"spec {SPEC!r}, worst case on; each run a fresh process")
+    rows = []
+    for n, keep, rep in ((small, True, args.repeat), (small, False, args.repeat), (large, False, rep_large)):
+        if keep and n > KEEP_VALUES_MAX:
+            continue
+        runs = [_run(n, keep) for _ in range(rep)]
+        rows.append((n, "kept" if keep else "streaming", rep, statistics.median(r["time"] for r in runs),
+                     max(r["rss"] for r in runs), runs[-1]))
+    scalar = _scalar_rate(args.scalar)
+
+    print(f"{'samples':>12} {'values':>10} {'runs':>4} {'time':>9} {'samples/s':>11} {'peak RSS':>9} "
+          f"{'stored values':>13} {'p50(av) bound':>13}")
+    for n, mode, rep, tm, rss, last in rows:
+        stored = n * 8 * len(RESULTS) if mode == "kept" else 0
+        print(f"{n:>12,} {mode:>10} {rep:>4} {tm:8.2f}s {n / tm:11.3g} {rss / 1e6:7.0f}MB {stored / 1e6:11.0f}MB "
+              f"{last['p50_bound']:13.2g}")
+    print(f"scalar pipeline: {scalar:,.0f} samples/s ({args.scalar} samples)")
+    print(f"load average after the runs: {os.getloadavg()[0]:.1f} (the machine is shared: rates vary with it)")
+    n, _, _, tm, rss, _ = rows[-1]
+    ratio_line(f"spread, {n:.0e} samples streaming: samples/s (vs scalar pipeline)", f"{n / tm:.3g}/s",
+               f"{scalar:.3g}/s", n / tm / scalar, "1e8 samples in ~60 s (1.7e6/s)", n / tm >= 1.6e6)
+    small_stream = next(r for r in rows if r[0] == small and r[1] == "streaming")
+    ratio_line(f"spread: peak RSS at {n:.0e} / at {small:.0e} samples (streaming)", f"{rss / 1e6:.0f} MB",
+               f"{small_stream[4] / 1e6:.0f} MB", rss / small_stream[4], "<= 300 MB, flat in n", rss <= 300e6)
 
 
 if __name__ == "__main__":

@@ -40,6 +40,8 @@ BASE: dict[str, list[str]] = {
     "cascade": ["--stage", f"ce:{BJT}", "--stage", f"cb:{BJT}"],
     "connect": ["--how", "series-series", "--net", f"ce:{BJT}", "--net", "shunt:47"],
     "formula": [BJT, "-r", "av", "--rl", "4.7k"],
+    "noise": [BJT, "-f", "1MHz"],
+    "design": ["--network", "divider", "--vcc", "12", "--ic", "1mA", "--beta-min", "100", "--beta-max", "300"],
 }
 #: Options that the base already gives once and that may be given once only (replaced, not added).
 SINGLE = {"--params", "--from", "--to", "--how", "--network", "--vcc", "--r1", "--r2", "--rc", "--re", "--beta",

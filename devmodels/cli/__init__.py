@@ -18,6 +18,8 @@ from . import core  # noqa: F401  (model, params, reconfigure, crosscheck)
 from . import terminated  # noqa: F401  (gain, compare, sweep)
 from . import biasnet  # noqa: F401  (bias, spread)
 from . import fetchain  # noqa: F401  (cascade, connect, formula)
+from . import noisecmd  # noqa: F401  (noise)
+from . import designcmd  # noqa: F401  (design)
 
 __all__ = ["app", "main"]
 

@@ -1,0 +1,203 @@
+"""Command ``noise``: noise figure and noise parameters of a stage (or of a Touchstone file's noise block).
+
+The library computes (:func:`devmodels.noise.stage_noise`, :func:`devmodels.noise.noise_parameters`,
+:func:`devmodels.noisefile.noisy_from_touchstone`); this module reads the options and shows the results.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+from typing import Annotated, Optional
+
+import numpy as np
+import typer
+
+from ..exceptions import InputError
+from ..units import format_complex, format_si, parse_quantity, shown
+from .app import command
+from .inputs import MODEL_KEYS, Inputs, bias_options, check_config, parse_freqs, parse_z0
+from .options import ConfigOpt, FreqOpt, JsonOpt
+from .render import emit_json, print_table, zjson, zstr
+
+#: Frequency of the analysis of a bias point without --freq, Hz (as ``gain``).
+DEFAULT_FREQ = 1e3
+#: Default source impedance, ohm.
+DEFAULT_RS = "50"
+
+_NoiseRsOpt = Annotated[str, typer.Option(
+    "--rs", help="Source impedance, ohm, at T0 = 290 K: a resistance (50, 2.2k) or complex R+jX (50+j10); "
+                 "real part > 0.", metavar="OHM")]
+_FlickerOpt = Annotated[Optional[str], typer.Option(
+    "--flicker-corner", help="1/f corner of the base current noise (bipolar) or of the channel noise (FET), Hz "
+                             "(default 0: no 1/f noise; then every --freq must be above 0 Hz).",
+    show_default=False, metavar="HZ", rich_help_panel="Noise")]
+_GammaNOpt = Annotated[Optional[str], typer.Option(
+    "--gamma-n", help="FET channel thermal-noise coefficient, dimensionless: the drain noise density is "
+                      "4 k T gamma_n gm in A^2/Hz (default 2/3, a long-channel device).",
+    show_default=False, metavar="NUMBER",
+    rich_help_panel="Noise")]
+_NoiseTouchstoneOpt = Annotated[Optional[Path], typer.Option(
+    "--touchstone", help="A two-port Touchstone file with a noise block instead of a bias point; without "
+                         "--freq every noise frequency of the file (a --freq must be one of them).",
+    show_default=False, metavar="FILE")]
+
+
+def _source(rs: str) -> complex:
+    """The source impedance in ohm (real part > 0: F is defined for a source that has noise of its own)."""
+    from ..schema import IMPEDANCE
+    from ..units import parse_impedance
+
+    z = parse_impedance(rs, "rs", bounds=IMPEDANCE)
+    if not z.real > 0:
+        raise InputError(f"rs: expected a source impedance with real part > 0 ohm (the noise factor is "
+                         f"referred to the source's own noise), got {shown(rs)}")
+    return z
+
+
+def _one_z0(text: str) -> float:
+    z0 = parse_z0(text)
+    if z0[0] != z0[1]:
+        raise InputError(f"z0: noise takes one reference resistance (gamma_opt is at the input port), "
+                         f"got {shown(text)}")
+    return z0[0]
+
+
+def _nonneg(text: str | None, name: str, unit: str, positive: bool = False) -> float | None:
+    if text is None:
+        return None
+    v = parse_quantity(text, unit, name)
+    if not math.isfinite(v) or v < 0 or (positive and v == 0):
+        raise InputError(f"{name}: expected a value {'> 0' if positive else '>= 0'}"
+                         f"{' ' + unit if unit else ''}, got {shown(text)}")
+    return v
+
+
+def _stage_noise(bias_in: Inputs, config: str | None, freq: np.ndarray, flicker: float | None,
+                 gamma_n: float | None):
+    """The stage's noisy two-port and its configuration (the model's noise options applied)."""
+    import dataclasses
+
+    from ..noise import stage_noise
+
+    if not bias_in.given():
+        raise InputError("bias point: missing; give a bias file, bias options (--ic, --vce, --beta, ...) "
+                         "or --touchstone")
+    stage = bias_in.stage(check_config(config) if config is not None else None)
+    changes = {}
+    temp = bias_in.get("temp")
+    if bias_in.family != "bipolar" and temp is not None and hasattr(stage.model, "temp"):
+        # FetModel.from_bias leaves the model at its default 300 K; its noise is at --temp
+        changes["temp"] = temp
+    if flicker is not None:
+        changes["flicker_corner"] = flicker
+    if gamma_n is not None:
+        if bias_in.family == "bipolar":
+            raise InputError(f"gamma-n: a FET option, not used for a {bias_in.device}")
+        changes["gamma_n"] = gamma_n
+    if changes:
+        stage = dataclasses.replace(stage, model=dataclasses.replace(stage.model, **changes))
+    if np.any(freq <= 0) and np.any(np.asarray(getattr(stage.model, "flicker_corner", 0.0)) > 0):
+        raise InputError("freq: 1/f noise (--flicker-corner) has no value at 0 Hz; give frequencies above 0 Hz")
+    return stage_noise(stage, freq), stage.config
+
+
+def _touchstone_noise(path: Path, freq: np.ndarray | None):
+    from ..noise import NoisyTwoPort
+    from ..noisefile import noisy_from_touchstone
+    from ..touchstone import read_touchstone_file
+
+    data = read_touchstone_file(path)
+    if data.noise is None:
+        raise InputError(f"touchstone: {shown(path.name)} has no noise block (noise parameters after the "
+                         "network data)")
+    ntp = noisy_from_touchstone(data)
+    if freq is None:
+        return ntp
+    idx = []
+    for f in freq:
+        hit = np.flatnonzero(np.isclose(ntp.freq, f, rtol=1e-9, atol=0.0))
+        if hit.size == 0:
+            raise InputError(f"freq: {format_si(float(f), 'Hz')} is not a noise frequency of {shown(path.name)} "
+                             f"({format_si(float(ntp.freq[0]), 'Hz')} to {format_si(float(ntp.freq[-1]), 'Hz')}, "
+                             f"{ntp.freq.size} points); noise parameters are not interpolated")
+        idx.append(int(hit[0]))
+    idx = np.asarray(idx)
+    return NoisyTwoPort(ntp.freq[idx], ntp.data[idx], ntp.cor[idx], ntp.form)
+
+
+def _noise_keys(k) -> bool:
+    """The bias-point keys of ``gain``; the noise keys are this command's own options."""
+    return MODEL_KEYS(k) and k.name not in ("flicker_corner", "gamma_n")
+
+
+@command("noise")
+@bias_options(_noise_keys)
+def noise_cmd(bias_in: Inputs, config: ConfigOpt = None, rs: _NoiseRsOpt = DEFAULT_RS, freq: FreqOpt = None,
+              z0: Annotated[str, typer.Option(
+                  "--z0", help="Reference resistance of gamma_opt, ohm (one value).", metavar="OHM")] = "50",
+              touchstone: _NoiseTouchstoneOpt = None, flicker_corner: _FlickerOpt = None,
+              gamma_n: _GammaNOpt = None, as_json: JsonOpt = False) -> None:
+    """Noise figure at --rs and the noise parameters (NFmin, Rn, Yopt, Zopt, gamma_opt) of a stage.
+
+    The source is at T0 = 290 K (the standard temperature of the noise-factor definition).
+
+    The device and its resistors are at their own temperature (--temp).
+
+    Without --freq a bias point is analysed at 1 kHz.
+    """
+    from ..noise import T0, noise_parameters
+
+    zs = _source(rs)
+    zref = _one_z0(z0)
+    fc = _nonneg(flicker_corner, "flicker-corner", "Hz")
+    gn = _nonneg(gamma_n, "gamma-n", "", positive=True)
+    f = parse_freqs(freq)
+    if touchstone is not None:
+        if bias_in.given():
+            raise InputError("touchstone: give either a Touchstone file (--touchstone) or a bias point, not both")
+        for name, v in (("flicker-corner", fc), ("gamma-n", gn)):
+            if v is not None:
+                raise InputError(f"{name}: a device-model option; not used with --touchstone")
+        ntp = _touchstone_noise(touchstone, f)
+        cfg = check_config(config) if config is not None else "ce"
+        label = f"Two-port {touchstone.name}"
+    else:
+        if fc is None:  # a bias file may hold them too (when the schema knows the keys)
+            fc = bias_in.get("flicker_corner")
+        if gn is None:
+            gn = bias_in.get("gamma_n")
+        ntp, cfg = _stage_noise(bias_in, config, f if f is not None else np.array([DEFAULT_FREQ]), fc, gn)
+        label = f"{cfg.upper()} stage"
+    res = noise_parameters(ntp, zs=zs, z0=zref)
+    pts = res.as_points()
+    if as_json:
+        emit_json({"config": cfg, "rs": zjson(zs), "z0": zref, "t0": T0, "points": pts})
+        return
+    _print_noise(pts, label, zs, zref)
+
+
+def _num(v, unit: str) -> str:
+    return format_si(v, unit) if v is not None else "—"
+
+
+def _cx(p, unit: str, missing: str) -> str:
+    if p is None or p[0] is None or p[1] is None:
+        return missing
+    return format_complex(complex(p[0], p[1]), unit, 4)
+
+
+def _print_noise(pts: list[dict], label: str, zs: complex, z0: float) -> None:
+    fcol = [format_si(p["freq"], "Hz") if p["freq"] is not None else "(any)" for p in pts]
+    rows = [[f, f"{p['nf_db']:.3f} dB" if p["nf_db"] is not None else "—", _num(p["te"], "K"),
+             f"{p['nfmin_db']:.3f} dB" if p["nfmin_db"] is not None else "—", _num(p["rn"], "Ω"),
+             _cx(p["zopt"], "Ω", "short" if p["yopt"][0] is None else "open"),
+             _cx(p["gamma_opt"], "", "—")] for f, p in zip(fcol, pts)]
+    print_table(f"Noise of the {label} from Rs = {zstr(zs)} at T0 = 290 K",
+                ["freq", "NF at Rs", "Te at Rs", "NFmin", "Rn", "Zopt", f"Γopt (z0 = {z0:g} Ω)"], rows,
+                caption="F = Fmin + (Rn/Gs)|Ys - Yopt|^2; Te = T0 (F - 1). Zopt 'short': no input noise voltage "
+                        "(Rn = 0), 'open': Yopt = 0.")
+    rows = [[f, _num(p["en"], "V/√Hz"), _num(p["in"], "A/√Hz"), _cx(p["correlation"], "", "—")]
+            for f, p in zip(fcol, pts)]
+    print_table("Equivalent input noise sources", ["freq", "en", "in", "correlation of en, in"], rows,
+                caption="en, in: densities of the input-referred noise voltage and current (chain form).")

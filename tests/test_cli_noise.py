@@ -1,0 +1,283 @@
+"""devmodels noise: the library's numbers, closed forms of the classic approximations, bad input."""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import math
+import re
+from pathlib import Path
+
+import numpy as np
+import pytest
+import typer.main
+
+from devmodels.cli import app, main
+from devmodels.cli.inputs import Inputs
+from devmodels.constants import BOLTZMANN, ELEMENTARY_CHARGE
+from devmodels.noise import T0, noise_parameters, stage_noise
+
+from conftest import assert_one_line_error
+
+EXAMPLES = Path(__file__).resolve().parent.parent / "bias_examples"
+AUDIO = EXAMPLES / "quiet_audio_input.toml"
+FET_FILES = sorted((EXAMPLES / "fet").glob("*.toml"))
+NAN_INF = re.compile(r"\b(nan|inf|infinity)\b", re.I)
+KEYS = ["freq", "nf_db", "nfmin_db", "rn", "yopt", "zopt", "gamma_opt", "te", "en", "in", "correlation"]
+
+
+def _library_points(path: Path, config: str, freq, zs, z0=50.0, **model_changes):
+    stage = Inputs(path, {}).stage(config)
+    if model_changes:
+        stage = dataclasses.replace(stage, model=dataclasses.replace(stage.model, **model_changes))
+    return noise_parameters(stage_noise(stage, np.asarray(freq, dtype=float)), zs=zs, z0=z0).as_points()
+
+
+def _same(a, b, rel=1e-12):
+    """JSON values equal: numbers to ``rel`` (the JSON round trip of a float is exact), None as None."""
+    if isinstance(b, list):
+        assert isinstance(a, list) and len(a) == len(b)
+        for x, y in zip(a, b):
+            _same(x, y, rel)
+    elif b is None:
+        assert a is None
+    else:
+        assert a == pytest.approx(b, rel=rel, abs=0.0)
+
+
+# --- the library's numbers -------------------------------------------------------------------
+@pytest.mark.parametrize("config", ["ce", "cb", "cc"])
+def test_bipolar_file_equals_library(run_json, config):
+    got = run_json("noise", str(AUDIO), "-c", config, "--rs", "2.2k", "-f", "10", "-f", "1kHz,1MHz", "-f", "50MHz")
+    want = _library_points(AUDIO, config, [10, 1e3, 1e6, 50e6], 2200.0)
+    assert got["config"] == config and got["rs"] == [2200.0, 0.0] and got["t0"] == 290.0
+    assert len(got["points"]) == 4
+    for p, q in zip(got["points"], want):
+        assert list(p) == KEYS
+        for k in KEYS:
+            _same(p[k], q[k])
+
+
+@pytest.mark.parametrize("path", FET_FILES, ids=lambda p: p.stem)
+def test_fet_files_equal_library(run_json, path):
+    got = run_json("noise", str(path), "--rs", "50+j20", "-f", "100MHz", "-f", "1GHz", "--z0", "75")
+    want = _library_points(path, "cs", [1e8, 1e9], 50 + 20j, 75.0)
+    for p, q in zip(got["points"], want):
+        for k in KEYS:
+            _same(p[k], q[k])
+
+
+def test_noise_options_reach_the_model(run_json):
+    fet = EXAMPLES / "fet" / "nmos_lna_input.toml"
+    got = run_json("noise", str(fet), "-f", "1MHz", "--gamma-n", "1.3", "--flicker-corner", "200kHz")
+    want = _library_points(fet, "cs", [1e6], 50.0, gamma_n=1.3, flicker_corner=2e5)
+    plain = run_json("noise", str(fet), "-f", "1MHz")
+    for k in KEYS:
+        _same(got["points"][0][k], want[0][k])
+    assert got["points"][0]["nf_db"] > plain["points"][0]["nf_db"]
+    got = run_json("noise", str(AUDIO), "-f", "100", "--rs", "10k", "--flicker-corner", "1kHz")
+    want = _library_points(AUDIO, "ce", [100], 1e4, flicker_corner=1e3)
+    for k in KEYS:
+        _same(got["points"][0][k], want[0][k])
+
+
+def test_default_frequency_is_1khz(run_json):
+    got = run_json("noise", str(AUDIO))
+    assert [p["freq"] for p in got["points"]] == [1000.0] and got["rs"] == [50.0, 0.0] and got["z0"] == 50.0
+
+
+# --- closed forms ----------------------------------------------------------------------------
+# --beta-tc 0: beta as given, also at 290 K (not moved from the reference temperature)
+BJT = ["--ic", "1mA", "--vce", "5", "--beta", "{beta}", "--rb", "{rb}", "--temp", "290", "--beta-tc", "0"]
+
+
+def _bjt(beta, rb):
+    return [a.format(beta=beta, rb=rb) for a in BJT]
+
+
+@pytest.mark.parametrize("rs", [100.0, 1e3, 10e3])
+def test_ce_low_frequency_exact(run_json, rs):
+    # Low-frequency CE stage, shot noise 2qIB and 2qIC, thermal noise of rb, no capacitances, ro
+    # infinite; referring the collector shot current to the input through gm r_pi / (R + r_pi):
+    # F = 1 + [4kT rb + 2q IB R^2 + 2q IC (R + r_pi)^2 / beta^2] / (4 k T0 Rs), R = Rs + rb
+    # (Gray, Hurst, Lewis and Meyer, noise chapter; from memory). Device at T = T0 = 290 K.
+    beta, rb, ic = 100.0, 100.0, 1e-3
+    got = run_json("noise", *_bjt(beta, rb), "--rs", f"{rs:g}", "-f", "1kHz")["points"][0]
+    kt = BOLTZMANN * 290.0
+    gm = ic / (kt / ELEMENTARY_CHARGE)
+    r_pi, ib, big_r = beta / gm, ic / beta, rs + rb
+    q = ELEMENTARY_CHARGE
+    f = 1 + (4 * kt * rb + 2 * q * ib * big_r ** 2 + 2 * q * ic * (big_r + r_pi) ** 2 / beta ** 2) / (4 * BOLTZMANN
+                                                                                                      * T0 * rs)
+    assert got["nf_db"] == pytest.approx(10 * math.log10(f), rel=1e-9)
+    assert got["te"] == pytest.approx(T0 * (f - 1), rel=1e-9)
+    # the usual approximation for beta >> 1 (same source, from memory):
+    # F ~ 1 + rb/Rs + 1/(2 gm Rs) + gm (Rs + rb)^2 / (2 beta Rs); its neglected terms are of order
+    # (Rs + rb)/(beta Rs) and 1/beta of the base term: within 1.5 % of F here (beta = 100)
+    approx = 1 + rb / rs + 1 / (2 * gm * rs) + gm * big_r ** 2 / (2 * beta * rs)
+    assert 10 ** (got["nf_db"] / 10) == pytest.approx(approx, rel=0.015)
+
+
+def test_ce_minimum_noise_classic_form(run_json):
+    # Fmin ~ 1 + sqrt(1 + 2 gm rb) / sqrt(beta), Rs,opt ~ sqrt(beta (1 + 2 gm rb)) / gm for beta >> 1
+    # (Gray, Hurst, Lewis and Meyer, noise chapter; from memory); beta = 1000 leaves ~1/sqrt(beta)
+    # relative terms out: 5 % on Fmin - 1, 5 % on Rs,opt.
+    beta, rb, ic = 1000.0, 50.0, 1e-3
+    got = run_json("noise", *_bjt(beta, rb), "-f", "1kHz")["points"][0]
+    gm = ic / (BOLTZMANN * 290.0 / ELEMENTARY_CHARGE)
+    fmin = 10 ** (got["nfmin_db"] / 10)
+    assert fmin - 1 == pytest.approx(math.sqrt(1 + 2 * gm * rb) / math.sqrt(beta), rel=0.05)
+    assert got["zopt"][0] == pytest.approx(math.sqrt(beta * (1 + 2 * gm * rb)) / gm, rel=0.05)
+    assert abs(got["zopt"][1]) < 1e-3 * got["zopt"][0]
+
+
+@pytest.mark.parametrize("freq,corner", [(1e3, 0.0), (1e3, 1e4), (1e6, 1e4)])
+def test_cs_channel_noise_closed_form(run_json, freq, corner):
+    # A MOSFET with only its channel noise 4 k T gamma_n gm (1 + fc/f) (no capacitances, rg = 0):
+    # en^2 = 4kT gamma_n (1 + fc/f) / gm, in = 0, so F = 1 + gamma_n (1 + fc/f) / (gm Rs) at T = T0
+    # (Lee, The Design of CMOS Radio-Frequency Integrated Circuits, noise chapter; from memory).
+    # Yopt = 0: zopt does not exist (null), gamma_opt = 1, the correlation does not exist (null).
+    args = ["--device", "nmos", "--id", "2mA", "--vds", "2", "--vov", "0.2", "--temp", "290", "--gamma-n", "1.5",
+            "--rs", "1k", "-f", f"{freq:g}"]
+    if corner:
+        args += ["--flicker-corner", f"{corner:g}"]
+    code, out, err = _run(args)
+    assert code == 0, err
+    p = json.loads(out)["points"][0]
+    gm = 2 * 2e-3 / 0.2
+    f = 1 + 1.5 * (1 + corner / freq) / (gm * 1e3)
+    assert p["nf_db"] == pytest.approx(10 * math.log10(f), rel=1e-9)
+    assert p["nfmin_db"] == pytest.approx(0.0, abs=1e-12)
+    assert p["rn"] == pytest.approx(1.5 * (1 + corner / freq) / gm, rel=1e-9)
+    assert p["yopt"] == [0.0, 0.0] and p["zopt"] == [None, None] and p["correlation"] == [None, None]
+    assert p["gamma_opt"] == [1.0, 0.0]
+    assert not NAN_INF.search(out)
+
+
+def _run(args):
+    import io
+    import sys
+
+    old = sys.stdout, sys.stderr
+    sys.stdout, sys.stderr = io.StringIO(), io.StringIO()
+    try:
+        code = main(["noise", *args, "--json"])
+        return code, sys.stdout.getvalue(), sys.stderr.getvalue()
+    finally:
+        sys.stdout, sys.stderr = old
+
+
+# --- Touchstone noise block ------------------------------------------------------------------
+def _noise_file(tmp_path, version="1.1"):
+    from devmodels.noisefile import write_touchstone_noise
+
+    stage = Inputs(EXAMPLES / "fet" / "nmos_lna_input.toml", {}).stage("cs")
+    f = np.array([1e8, 5e8, 1e9, 2e9])
+    res = noise_parameters(stage_noise(stage, f), zs=50.0)
+    path = tmp_path / ("lna.s2p" if version == "1.1" else "lna.ts")
+    write_touchstone_noise(stage.two_port(f, "s"), res, path, version)
+    return path, res
+
+
+@pytest.mark.parametrize("version", ["1.1", "2.0"])
+def test_touchstone_noise_block(run_json, tmp_path, version):
+    path, res = _noise_file(tmp_path, version)
+    got = run_json("noise", "--touchstone", str(path), "--rs", "50")
+    assert [p["freq"] for p in got["points"]] == pytest.approx(res.freq.tolist(), rel=1e-9)
+    # the file holds the noise parameters with a few significant digits (writer's format)
+    for p, nf, nfmin, rn in zip(got["points"], res.nf_db, res.nfmin_db, res.rn):
+        assert p["nfmin_db"] == pytest.approx(nfmin, abs=1e-3)
+        assert p["rn"] == pytest.approx(rn, rel=1e-3)
+        assert p["nf_db"] == pytest.approx(nf, abs=2e-3)
+    one = run_json("noise", "--touchstone", str(path), "-f", "1GHz")
+    assert len(one["points"]) == 1 and one["points"][0]["nf_db"] == got["points"][2]["nf_db"]
+
+
+def test_touchstone_bad_input(run, tmp_path):
+    path, _ = _noise_file(tmp_path)
+    assert_one_line_error(run, "noise", "--touchstone", str(path), "-f", "700MHz",
+                          prefix="freq: 700 MHz is not a noise")
+    assert_one_line_error(run, "noise", "--touchstone", str(path), "--gamma-n", "1", prefix="gamma-n:")
+    assert_one_line_error(run, "noise", str(AUDIO), "--touchstone", str(path), prefix="touchstone:")
+    plain = tmp_path / "plain.s2p"
+    plain.write_text("# Hz S RI R 50\n1e6 0.5 0 0.01 0 5 0 0.5 0\n2e6 0.5 0 0.01 0 5 0 0.5 0\n")
+    assert_one_line_error(run, "noise", "--touchstone", str(plain), prefix="touchstone:", match="no noise block")
+
+
+# --- tables, help ----------------------------------------------------------------------------
+def test_table(run):
+    code, out, err = run("noise", str(AUDIO), "--rs", "2k", "-f", "1kHz", "-f", "10MHz")
+    assert code == 0 and err == ""
+    for text in ("NF at Rs", "NFmin", "Rn", "Zopt", "290 K", "1 kHz", "10 MHz", "en", "in"):
+        assert text in out
+    assert not NAN_INF.search(out)
+
+
+def test_table_shows_missing_values_in_words(run):
+    code, out, _ = run("noise", "--device", "nmos", "--id", "2mA", "--vds", "2", "--vov", "0.2", "--rs", "1k")
+    assert code == 0 and "open" in out and not NAN_INF.search(out)
+
+
+def test_help(run):
+    code, out, _ = run("noise", "--help")
+    assert code == 0
+    text = " ".join(out.split())
+    for unit in ("290 K", "HZ", "OHM", "Hz", "ohm"):
+        assert unit in text
+    assert "<bool>" not in out and "BOOLEAN" not in out
+
+
+# --- bad input -------------------------------------------------------------------------------
+BASE = [str(AUDIO), "-f", "1kHz"]
+BAD = ["", "0", "-1", "1e308", "1e-308", "nan", "inf", "1,2=x;", "5V", "5A"]
+
+
+def _noise_options():
+    cmd = typer.main.get_command(app).commands["noise"]
+    for p in cmd.params:
+        if getattr(p, "is_flag", False) or not p.opts or not p.opts[0].startswith("--") or p.opts[0] == "--help":
+            continue
+        yield p.opts[0]
+
+
+@pytest.mark.parametrize("opt", list(_noise_options()))
+def test_bad_values_of_every_option(opt, capsys, tmp_path, monkeypatch):
+    # the rule of tests/test_cli_badinput.py, for this command: exit 2 with one error line, or a clean run
+    monkeypatch.chdir(tmp_path)
+    fet = opt in ("--id", "--vds", "--vov", "--kn", "--lambda", "--gamma", "--vsb", "--two-phi-f", "--cgs", "--cgd",
+                  "--csb", "--cdb", "--rg", "--idss", "--vp", "--gamma-n")
+    base = [str(EXAMPLES / "fet" / "nmos_lna_input.toml"), "-f", "1MHz"] if fet else list(BASE)
+    for value in BAD:
+        args = ["noise", *base, opt, value]
+        code = main(args)
+        out, err = capsys.readouterr()
+        assert "Traceback" not in err and "Warning:" not in err and "internal error" not in err, (args, err)
+        if code == 2:
+            lines = err.strip().splitlines()
+            assert len(lines) == 1 and lines[0].startswith("devmodels: error: "), (args, err)
+            assert out == ""
+        else:
+            assert code == 0, (args, code, err)
+            assert not NAN_INF.search(out), (args, out)
+
+
+@pytest.mark.parametrize("args,prefix", [
+    (["--rs", "-5"], "rs: expected a passive impedance"),
+    (["--rs", "0"], "rs: expected a source impedance with real part > 0"),
+    (["--rs", "j50"], "rs: expected a source impedance with real part > 0"),
+    (["--rs", "open"], "rs: an open source"),
+    (["--z0", "50,75"], "z0: noise takes one reference resistance"),
+    (["--gamma-n", "1"], "gamma-n: a FET option"),
+    (["--gamma-n", "0"], "gamma-n:"),
+    (["--flicker-corner", "-1"], "flicker-corner: expected a value >= 0 Hz"),
+    (["--flicker-corner", "1k", "-f", "0"], "freq: 1/f noise"),
+    (["-c", "cs"], "config:"),
+    (["-c", "xx"], "config:"),
+    (["-f", "-1"], "freq:"),
+])
+def test_bad_input_names_the_value(run, args, prefix):
+    assert_one_line_error(run, "noise", str(AUDIO), *args, prefix=prefix)
+
+
+def test_missing_bias_point(run):
+    assert_one_line_error(run, "noise", prefix="bias point: missing")
