@@ -6,7 +6,9 @@ gathers their ``RESULT|...`` lines into one table, with the machine it ran on.
 
     python3 benchmarks/run_all.py [--quick]
 
-``--quick`` uses smaller sizes (a smoke test; its ratios are not the targets' sizes).
+``--quick`` uses smaller sizes (a smoke test; its ratios are not the targets' sizes).  The
+full run takes spread to 1e7 samples; ``python3 benchmarks/bench_spread.py`` alone runs the
+1e8-sample case (several minutes).
 """
 
 from __future__ import annotations
@@ -24,16 +26,22 @@ HERE = Path(__file__).resolve().parent
 FULL = [
     ("bench_convert.py", []),
     ("bench_pipeline.py", []),
-    ("bench_spread.py", []),
+    ("bench_spread.py", ["--samples", "1e7", "--repeat", "3", "--repeat-large", "1"]),
     ("bench_startup.py", []),
     ("bench_export.py", []),
+    ("bench_export_memory.py", ["--points", "1000000"]),
+    ("bench_noise.py", []),
+    ("bench_extract.py", []),
 ]
 QUICK = [
     ("bench_convert.py", ["--quick"]),
     ("bench_pipeline.py", ["--points", "100000", "--ref-points", "2000", "--repeat", "3"]),
-    ("bench_spread.py", ["--samples", "100000", "--repeat", "1", "--scalar", "50"]),
+    ("bench_spread.py", ["--quick", "--repeat", "1", "--scalar", "50"]),
     ("bench_startup.py", ["--repeat", "5"]),
     ("bench_export.py", ["--points", "100000", "--repeat", "2"]),
+    ("bench_export_memory.py", ["--quick"]),
+    ("bench_noise.py", ["--quick"]),
+    ("bench_extract.py", ["--repeat", "2"]),
 ]
 
 

@@ -82,6 +82,8 @@ A value that does not exist for the network is NaN in the arrays; output layers 
 
 from __future__ import annotations
 
+import dataclasses
+
 import math
 import os
 import threading
@@ -589,8 +591,8 @@ def _check_y(y: np.ndarray, start: int = 0) -> None:
     if not np.all(y[:, 1, 0]):
         bad = np.flatnonzero(y[:, 1, 0] == 0)
         raise SingularParameterError(
-            "the two-port has no forward transmission (y21 = 0 at point "
-            f"{start + bad[0]}), so it has no terminated gain")
+            "two-port: no forward transmission (y21 = 0 at point "
+            f"{start + bad[0]}; at 0 Hz a coupling capacitor blocks it), so there is no terminated gain")
 
 
 def _no_solution(bad: np.ndarray, freq, start: int) -> SingularParameterError:
@@ -769,7 +771,6 @@ def terminate_configs(stage, configs, freq, rs=50.0, rl=1e3, z0=50.0) -> dict[st
     """
     from .configs import check_config, config_y
     from .netlist import check_freq
-    from .stage import Stage
 
     f = check_freq(freq)
     z0n = normalize_z0(z0)
@@ -777,7 +778,7 @@ def terminate_configs(stage, configs, freq, rs=50.0, rl=1e3, z0=50.0) -> dict[st
     # one indefinite matrix for every configuration only where the stage says so (a bipolar
     # model); otherwise (a FET whose body goes to the common terminal, or unknown) one each
     per_config = not getattr(stage, "same_indefinite_for_all_configs", False)
-    stages = {c: Stage(stage.model, c, stage.rdeg, stage.rfb) for c in configs}
+    stages = {c: dataclasses.replace(stage, config=c) for c in configs}  # network and all
 
     def blocks(start, stop):
         fb = f[start:stop]
@@ -845,8 +846,8 @@ def _blocked(n: int, rs, rl, labels, source, z0n, freq=None) -> dict[str, dict[s
                     abcd = convert(blk, kind, "abcd", z0_src)
                 except SingularParameterError:
                     raise SingularParameterError(
-                        "the two-port has no forward transmission (its chain parameters do not exist), "
-                        "so it has no terminated gain") from None
+                        "two-port: no forward transmission (its chain parameters do not exist), "
+                        "so there is no terminated gain") from None
                 res = _terminate_checked(abcd, zs_blk, zl_blk, dst)
                 stability_arrays(convert(blk, kind, "s", z0_src, z0_out=z0n), dst)
             for k in ("zs", "zl"):  # per-point terminations (the results are written in place)

@@ -57,7 +57,8 @@ class BipolarBias:
 
     ic: float = field(metadata=meta("A", "Collector current, A (e.g. 1mA).", 1e-15, 100.0))
     vce: float = field(metadata=meta("V", "Collector-emitter voltage, V (e.g. 5V).", 1e-6, 1e4))
-    beta: float = field(metadata=meta("", "Current gain hFE (hfe) at the bias point.", 1e-3, 1e6, zero=False))
+    beta: float = field(metadata=meta("", "Current gain hFE (hfe) at the bias point, given at tref (moved to temp).", 1e-3, 1e6,
+                                    zero=False))
     device: Literal["npn", "pnp"] = "npn"
     va: float | None = field(default=None, metadata=meta(
         "V", "Early voltage, V (default: none, ro infinite).", 1e-3, 1e6, zero=False))
@@ -67,7 +68,8 @@ class BipolarBias:
         "F", "Collector-base capacitance C_mu (datasheet Cob), F (default 0).", 1e-18, 1.0))
     rb: float = field(default=0.0, metadata=meta("Ohm", "Base spreading resistance, ohm (default 0).", 1e-6, 1e12))
     temp: float = field(default=DEFAULT_TEMP, metadata=meta(
-        "K", "Junction temperature, K (300, 300K) or Celsius (27C) (default 300 K).", 1.0, 1000.0, zero=False))
+        "K", "Junction temperature, K (300, 300K) or Celsius (27C) (default: tref, 300 K).", 1.0, 1000.0,
+        zero=False))
     rmu: float | None = field(default=None, metadata=meta(
         "Ohm", "Collector-base resistance r_mu, ohm (default: none).", 1e-3, 1e18, zero=False))
     rcx: float = field(default=0.0, metadata=meta("Ohm", "Collector ohmic resistance, ohm (default 0).", 1e-6, 1e12))

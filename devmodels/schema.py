@@ -24,7 +24,7 @@ from .exceptions import InputError
 from .units import Bounds, check_bounds, parse_quantity, parse_temperature, shown, temperature_warning, type_name
 
 __all__ = ["Key", "DEVICES", "FAMILY", "PANELS", "TABLES", "keys", "flat_keys", "table_keys", "merge",
-           "nearest", "MAX_POINTS", "MAX_SAMPLES", "FREQ", "Z0", "IMPEDANCE"]
+           "nearest", "STAGE_NETWORK", "DATASHEET", "MAX_POINTS", "MAX_SAMPLES", "FREQ", "Z0", "IMPEDANCE"]
 
 #: Every device type and its family ("bipolar", "mosfet", "jfet").
 FAMILY: dict[str, str] = {"npn": "bipolar", "pnp": "bipolar", "nmos": "mosfet", "pmos": "mosfet",
@@ -34,7 +34,9 @@ DEVICES: tuple[str, ...] = tuple(FAMILY)
 PANELS: dict[str, str] = {
     "device": "Device", "bipolar": "Bipolar transistor", "fet": "FET (--device nmos, pmos, njfet, pjfet)",
     "stage": "Stage: external resistors", "rating": "Ratings and temperature coefficients",
-    "network": "Bias network", "spread": "Spread limits"}
+    "network": "Bias network", "spread": "Spread limits",
+    "stagenet": "Stage network in the AC analysis ([network] table)",
+    "datasheet": "Datasheet values at their test conditions (bipolar)"}
 #: Tables a bias file may hold.
 TABLES: tuple[str, ...] = ("network",)
 
@@ -87,6 +89,8 @@ class Key:
         A table where the same key may be written instead (``network`` for ``vbe``, ``pmax``, ...).
     choices : tuple of str or None
         Allowed text values.
+    short_ok : bool
+        True for a capacitor of the stage network that may be written ``"short"`` (ideal).
     """
 
     name: str
@@ -99,6 +103,7 @@ class Key:
     field: str = ""
     also: str | None = None
     choices: tuple[str, ...] | None = None
+    short_ok: bool = False
 
     @property
     def id(self) -> str:
@@ -145,9 +150,33 @@ class Key:
             return v
         if self.unit == "K":
             return parse_temperature(raw, name)
+        if self.unit == "table":
+            return _parse_table(name, raw)
+        if self.short_ok and isinstance(raw, str) and raw.strip().lower() == "short":
+            return "short"
         v = parse_quantity(raw, self.unit, name)
         check_bounds(name, v, self.unit, self.bounds, raw)
         return v / 100.0 if self.unit in ("%", "%/K") else v
+
+
+def _parse_table(name: str, raw) -> list[list[float]]:
+    """An hFE table: text ``"IC:hFE, IC:hFE"`` or rows ``[[IC, hFE], ...]`` -> rows of SI floats."""
+    if isinstance(raw, str):
+        rows = [r.split(":") for r in raw.split(",") if r.strip()]
+    elif isinstance(raw, (list, tuple)):
+        rows = [list(r) if isinstance(r, (list, tuple)) else [r] for r in raw]
+    else:
+        raise InputError(f"{name}: expected rows IC:hFE separated by commas, got {type_name(raw)}")
+    if not rows:
+        raise InputError(f"{name}: expected rows IC:hFE separated by commas, got an empty table")
+    out = []
+    for k, row in enumerate(rows, 1):
+        if len(row) != 2:
+            raise InputError(f"{name}: row {k}: expected IC:hFE, got {shown(':'.join(map(str, row)))}")
+        ic = parse_quantity(row[0], "A", name)
+        hfe = parse_quantity(row[1], "", name)
+        out.append([ic, hfe])
+    return out
 
 
 def _meta_keys(cls, table: str | None, panel: str, family: str | None, skip=()) -> list[Key]:
@@ -168,19 +197,21 @@ EXTRA: tuple[tuple[str, str, str, Bounds | None, str, str, str | None], ...] = (
      Bounds(1e-6, 1e15), "stage", "Stage.rdeg", None),
     ("rfb", "Ohm", "External collector-base (drain-gate) feedback resistor, ohm (default: none).",
      Bounds(1e-6, 1e15), "stage", "Stage.rfb", None),
+    ("tref", "K", "Temperature at which the datasheet values (beta, VBE(on), hFE table) are given, K or "
+     "Celsius (default 300 K); --temp defaults to it.", None, "device", "t_ref", None),
     ("pmax", "W", "Power rating, W: warn when the dissipation (IC VCE, ID VDS) is above it.",
      Bounds(1e-9, 1e6, zero=False), "rating", "pmax", "network"),
     ("vceo", "V", "Breakdown rating VCEO, V: warn when VCE (or, with a network, VCC) is above it.",
      Bounds(1e-3, 1e5, zero=False), "rating", "vceo", "network"),
-    ("vbe", "V", "VBE(on) at 300 K, V (default 0.7 V; used with a bias network).",
+    ("vbe", "V", "VBE(on) at tref, V (default 0.7 V; used with a bias network and for cob's VCB).",
      Bounds(1e-3, 10.0, zero=False), "rating", "vbe", "network"),
     ("vbe_tc", "V/K", "VBE(on) temperature coefficient, V/K (default -2mV/K).",
      Bounds(1e-9, 1.0), "rating", "vbe_tc", "network"),
     ("beta_tc", "%/K", "Beta temperature coefficient, %/K (default 0.5, compounded).",
      Bounds(1e-9, 99.0), "rating", "beta_tc", "network"),
-    ("beta_min", "", "Lowest beta at 300 K (datasheet minimum hFE).", Bounds(1e-3, 1e6), "spread",
+    ("beta_min", "", "Lowest beta at tref (datasheet minimum hFE).", Bounds(1e-3, 1e6), "spread",
      "SpreadRanges.beta_min", None),
-    ("beta_max", "", "Highest beta at 300 K (datasheet maximum hFE).", Bounds(1e-3, 1e6), "spread",
+    ("beta_max", "", "Highest beta at tref (datasheet maximum hFE).", Bounds(1e-3, 1e6), "spread",
      "SpreadRanges.beta_max", None),
     ("beta_typ", "", "Typical beta: a triangular distribution with this mode (default: uniform).",
      Bounds(1e-3, 1e6), "spread", "SpreadRanges.beta_typ", None),
@@ -188,6 +219,51 @@ EXTRA: tuple[tuple[str, str, str, Bounds | None, str, str, str | None], ...] = (
      "SpreadRanges.temp_min", None),
     ("temp_max", "K", "Highest temperature, K or Celsius (70C) (default --temp).", None, "spread",
      "SpreadRanges.temp_max", None),
+)
+
+
+_CAP = Bounds(1e-18, 1.0, zero=False)
+_RES = Bounds(1e-6, 1e15)
+#: Keys of the ``[network]`` table that describe the stage in the AC analysis
+#: (:class:`devmodels.stagenetwork.StageNetwork`): (name, unit, help, bounds, family, "short" allowed).
+STAGE_NETWORK: tuple[tuple[str, str, str, Bounds, str | None, bool], ...] = (
+    ("c_in", "F", "Input coupling capacitor, F, from the input terminal to the base (gate); "
+     "\"short\" or absent: ideal.", _CAP, None, True),
+    ("c_out", "F", "Output coupling capacitor, F, from the collector (emitter for cc; drain, source for "
+     "cd) to the output terminal; \"short\" or absent: ideal.", _CAP, None, True),
+    ("c_bypass", "F", "Emitter (source) bypass capacitor, F, across re_bypassed (rsrc_bypassed); "
+     "\"short\": ideal; absent: no bypass.", _CAP, None, True),
+    ("c_base", "F", "Common base (gate): capacitor from the base (gate) to ground, F; \"short\" or absent: "
+     "ideal.", _CAP, None, True),
+    ("re_bypassed", "Ohm", "The part of re that c_bypass bypasses, ohm (default: all of re).", _RES,
+     "bipolar", False),
+    ("rg1", "Ohm", "FET network: gate resistor from the supply, ohm (needs id and vds: a FET network has "
+     "no DC solution yet).", _RES, "fet", False),
+    ("rg2", "Ohm", "FET network: gate resistor to ground, ohm.", _RES, "fet", False),
+    ("rd", "Ohm", "FET network: drain resistor to the supply, ohm.", _RES, "fet", False),
+    ("rsrc", "Ohm", "FET network: source resistor to ground, ohm.", _RES, "fet", False),
+    ("rsrc_bypassed", "Ohm", "FET network: the part of rsrc that c_bypass bypasses, ohm (default: all).",
+     _RES, "fet", False),
+)
+
+
+#: Datasheet values at their test conditions (:mod:`devmodels.datasheet`): (name, unit, help, bounds).
+DATASHEET: tuple[tuple[str, str, str, Bounds | None], ...] = (
+    ("ft_at_ic", "A", "Test IC of ft, A: with c_je, fT at the bias IC follows the transit-time law.",
+     Bounds(1e-15, 100.0, zero=False)),
+    ("ft_at_vce", "V", "Test VCE of ft, V (recorded; with cob it sets C_mu at the test point).",
+     Bounds(1e-6, 1e4, zero=False)),
+    ("c_je", "F", "Base-emitter junction capacitance C_je, F (with ft_at_ic).", Bounds(1e-18, 1.0, zero=False)),
+    ("cob", "F", "Datasheet output capacitance Cob, F, at cob_at_vcb (instead of cmu).",
+     Bounds(1e-18, 1.0, zero=False)),
+    ("cob_at_vcb", "V", "Test VCB of cob, V.", Bounds(1e-6, 1e4)),
+    ("cob_potential", "V", "Junction potential of the Cob law, V (default 0.75 V, common practice).",
+     Bounds(1e-3, 10.0, zero=False)),
+    ("cob_exponent", "", "Grading exponent of the Cob law (default 0.33, common practice).",
+     Bounds(1e-3, 10.0, zero=False)),
+    ("hfe_table", "table", "hFE against IC instead of beta: \"IC:hFE, IC:hFE, ...\" (IC increasing), "
+     "e.g. \"100uA:120, 1mA:150, 10mA:140\"; linear in log10 IC.", None),
+    ("ib", "A", "Base current instead of ic, A (IC = beta IB).", Bounds(1e-18, 10.0, zero=False)),
 )
 
 
@@ -213,6 +289,8 @@ def keys() -> dict[str, Key]:
         add(dataclasses.replace(k, family="fet") if k.field in mos and k.field in jf else k)
     for name, unit, help_, b, panel, lib, also in EXTRA:
         add(Key(name, None, unit, help_, b, panel, None, lib, also))
+    for name, unit, help_, b in DATASHEET:
+        add(Key(name, None, unit, help_, b, "datasheet", "bipolar", f"datasheet.{name}"))
     for k in _meta_keys(BiasNetwork, "network", "network", "bipolar"):
         if k.name == "tol":  # one tolerance: top level or [network], for the network and rdeg/rfb
             add(Key("tol", None, "%", "Resistor tolerance, % (network resistors, rdeg, rfb) (default 0).",
@@ -221,6 +299,8 @@ def keys() -> dict[str, Key]:
             add(dataclasses.replace(k, choices=NETWORK_KINDS, field="BiasNetwork.kind"))
         else:
             add(dataclasses.replace(k, field=f"BiasNetwork.{k.field}"))
+    for name, unit, help_, b, fam, short in STAGE_NETWORK:
+        add(Key(name, "network", unit, help_, b, "stagenet", fam, f"StageNetwork.{name}", short_ok=short))
     add(Key("description", None, "str", "A note about the bias point (not used).", None, "device", None,
             "description"))
     return out

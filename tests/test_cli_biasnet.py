@@ -120,7 +120,7 @@ def test_every_bias_point_command_takes_the_network(run, cmd):
 def test_gain_from_network_equals_explicit(run_json, tmp_path):
     path = _write(tmp_path, NET_FILE)
     op = operating_point(BiasNetwork("divider", 12.0, rc=2.2e3, re=1e3, r1=47e3, r2=10e3), 100.0)
-    a = run_json("params", path, "-f", "1MHz", "--kind", "s")
+    a = run_json("params", path, "-f", "1MHz", "--kind", "s", "--bare")
     b = run_json("params", "--ic", repr(op.ic), "--vce", repr(op.vce), "--beta", "100", "--va", "80V",
                  "-f", "1MHz", "--kind", "s")
     assert a == b

@@ -29,7 +29,7 @@ def test_keys_are_complete_and_consistent():
     ks = keys()
     for k in ks.values():
         assert k.help and k.panel in PANELS
-        assert k.unit in UNITS or k.unit in ("str", "K"), k
+        assert k.unit in UNITS or k.unit in ("str", "K", "table"), k
         if k.bounds is not None:
             assert 0 < k.bounds.lo < k.bounds.hi, k
     for name, *_ in EXTRA:
@@ -64,3 +64,25 @@ def test_ranges_and_warnings():
     notes = []
     merge({"temp": "27"}, {}, {}, warnings=notes)
     assert notes == ["temp: 27 K is outside 200 K to 500 K; did you mean 27C?"]
+
+
+def test_stage_network_datasheet_and_tref_keys():
+    from devmodels.exceptions import InputError as Err
+
+    net = table_keys("network")
+    for name in ("c_in", "c_out", "c_bypass", "c_base", "re_bypassed", "rg1", "rg2", "rd", "rsrc", "rsrc_bypassed"):
+        assert name in net and net[name].panel == "stagenet"
+    assert net["c_in"].parse("short") == "short" and net["c_in"].parse("4.7uF") == pytest.approx(4.7e-6, rel=1e-15, abs=0)
+    with pytest.raises(Err, match="^c_in: "):
+        net["c_in"].parse("0F")
+    with pytest.raises(Err, match="^re_bypassed: "):
+        net["re_bypassed"].parse("short")  # only capacitors may be "short"
+    flat = flat_keys()
+    assert flat["tref"].parse("25C") == pytest.approx(298.15, rel=1e-15, abs=0)
+    assert flat["hfe_table"].parse("100uA:120, 1mA:150") == [[pytest.approx(1e-4, rel=1e-15, abs=0), 120.0],
+                                                             [pytest.approx(1e-3, rel=1e-15, abs=0), 150.0]]
+    assert flat["hfe_table"].parse([["1mA", 150]]) == [[pytest.approx(1e-3, rel=1e-15, abs=0), 150.0]]
+    with pytest.raises(Err, match="^hfe_table: row 2: expected IC:hFE"):
+        flat["hfe_table"].parse("1mA:150, 2mA")
+    for name in ("ft_at_ic", "ft_at_vce", "c_je", "cob", "cob_at_vcb", "cob_potential", "cob_exponent", "ib"):
+        assert flat[name].family == "bipolar" and flat[name].panel == "datasheet"

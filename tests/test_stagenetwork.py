@@ -181,3 +181,18 @@ def test_ce_with_capacitors_against_an_independent_sympy_nodal_solution():
         _, avs, zin, _ = _term(st, f, vals["RS"], vals["RL"])
         assert avs == pytest.approx(complex(avs_f(2j * math.pi * f)), rel=1e-8)
         assert zin == pytest.approx(complex(zin_f(2j * math.pi * f)), rel=1e-8)
+
+
+def test_terminate_configs_keeps_the_network():
+    # The blocked analysis of several configurations must analyse the stage as built, not the
+    # bare device: each configuration against terminate() of the same stage alone.
+    from devmodels.analysis import terminate_configs
+
+    m = _model(ro=60e3, rb=80.0, c_pi=10e-12, c_mu=1e-12)
+    net = StageNetwork("divider", r1=47e3, r2=10e3, rc=4.7e3, re=1.3e3, c_bypass=47e-6, c_in=1e-6)
+    f = np.geomspace(1.0, 1e8, 9)
+    got = terminate_configs(dm.Stage(m, "ce", network=net), ("ce", "cb", "cc"), f, 600.0, 10e3)
+    for c in ("ce", "cb", "cc"):
+        want = terminate(dm.Stage(m, c, network=net).two_port(f), 600.0, 10e3)
+        np.testing.assert_allclose(got[c].avs, want.avs, rtol=1e-9)
+        np.testing.assert_allclose(got[c].zin, want.zin, rtol=1e-9)

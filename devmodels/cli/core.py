@@ -47,8 +47,11 @@ def model_cmd(bias_in: Inputs, as_json: JsonOpt = False) -> None:
         "gm": m.gm, "r_pi": m.r_pi, "ro": ro, "c_pi": m.c_pi, "c_mu": m.c_mu, "rb": m.rb,
         "re": m.re, "alpha": m.alpha, "beta": bias.beta, "vt": m.vt, "f_beta": m.f_beta, "ft": m.ft,
         "r_mu": None if np.isinf(m.r_mu) else m.r_mu, "rcx": m.rcx, "rex": m.rex,
-        "device": bias.device, "ic": ic, "vce": vce, "temp": bias.temp, "power": bias.power,
+        "device": bias.device, "ic": ic, "vce": vce, "temp": bias.temp, "tref": bias_in.tref, "power": bias.power,
+        "ft_used": m.ft, "datasheet": bias_in.datasheet,
     }
+    if "ft" in bias_in.datasheet:
+        out["ft"] = bias_in.get("ft")  # as given; ft_used at the bias point
     if as_json:
         emit_json(out)
         return
@@ -57,13 +60,15 @@ def model_cmd(bias_in: Inputs, as_json: JsonOpt = False) -> None:
         ["r_pi", format_si(m.r_pi, "Ω"), "beta / gm"],
         ["ro", format_si(ro, "Ω") if ro else "open", "VA / IC"],
         ["C_pi", format_si(m.c_pi, "F"), "gm / (2 pi fT) - C_mu"],
-        ["C_mu", format_si(m.c_mu, "F"), "given"],
+        ["C_mu", format_si(m.c_mu, "F"), "Cob moved to the bias VCB" if "c_mu" in bias_in.datasheet else "given"],
         ["rb", format_si(m.rb, "Ω"), "given"],
         ["f_beta", format_si(m.f_beta, "Hz") if m.f_beta else "unbounded", "1 / (2 pi r_pi (C_pi + C_mu))"],
-        ["fT", format_si(m.ft, "Hz") if m.ft else "unbounded", "gm / (2 pi (C_pi + C_mu))"],
+        ["fT", format_si(m.ft, "Hz") if m.ft else "unbounded", "gm / (2 pi (C_pi + C_mu))"
+         + ("; transit-time law at IC" if "ft" in bias_in.datasheet else "")],
         ["re", format_si(m.re, "Ω"), "alpha / gm  (T model)"],
         ["alpha", f"{m.alpha:.6g}", "beta / (beta + 1)  (T model)"],
-        ["beta", f"{bias.beta:.6g}", "given (hfe)"],
+        ["beta", f"{bias.beta:.6g}", "given (hfe)" if bias.temp == bias_in.tref or bias_in.get("beta") is None
+         else f"given {bias_in.get('beta'):.6g} at {bias_in.tref:.2f} K, moved to T (beta_tc)"],
         ["VT", format_si(m.vt, "V"), "k T / q"],
     ]
     if not np.isinf(m.r_mu):
@@ -78,7 +83,7 @@ def model_cmd(bias_in: Inputs, as_json: JsonOpt = False) -> None:
 
 
 @command("params")
-@bias_options()
+@bias_options(bare=True)
 def params_cmd(bias_in: Inputs, config: ConfigOpt = None, kind: KindOpt = "y",
                freq: FreqOpt = None, z0: Z0Opt = "50", given: ParamsOpt = None,
                touchstone: TouchstoneOpt = None, polar: PolarOpt = False, as_json: JsonOpt = False) -> None:
@@ -125,7 +130,7 @@ def reconfigure_cmd(
 
 
 @command("crosscheck")
-@bias_options()
+@bias_options(bare=True)
 def crosscheck_cmd(
     bias_in: Inputs,
     config: Annotated[Optional[list[str]], typer.Option(

@@ -23,7 +23,7 @@ import typer
 from ..exceptions import InputError
 from ..schema import FAMILY, FREQ, IMPEDANCE, MAX_POINTS, PANELS, Z0, Key, keys, merge
 from ..units import UNITS, Bounds, check_bounds, parse_complex, parse_count, parse_impedance, parse_quantity, shown
-from .render import warn
+from .render import note_later, warn
 
 __all__ = ["Inputs", "bias_options", "MODEL_KEYS", "SPREAD_KEYS", "BIAS_KEYS", "parse_freqs", "parse_freq",
            "parse_z0", "parse_given", "terminations", "parse_points", "two_port_input", "check_kind",
@@ -33,7 +33,8 @@ __all__ = ["Inputs", "bias_options", "MODEL_KEYS", "SPREAD_KEYS", "BIAS_KEYS", "
 # --- which keys each command takes --------------------------------------------------------------
 def MODEL_KEYS(k: Key) -> bool:
     """Bias-point commands: the device, bipolar and FET values, the stage, the ratings."""
-    return k.table is None and k.panel in ("device", "bipolar", "fet", "stage", "rating") and k.name != "description"
+    return (k.table is None and k.panel in ("device", "bipolar", "fet", "stage", "rating", "datasheet")
+            and k.name != "description")
 
 
 def SPREAD_KEYS(k: Key) -> bool:
@@ -44,7 +45,7 @@ def SPREAD_KEYS(k: Key) -> bool:
 
 def BIAS_KEYS(k: Key) -> bool:
     """bias: the network, the transistor's DC values, the ratings."""
-    return k.table == "network" or k.name in ("tol", "device", "temp", "beta", "vce_sat", "pmax", "vceo", "vbe",
+    return (k.table == "network" and k.panel != "stagenet") or k.name in ("tol", "device", "temp", "tref", "beta", "vce_sat", "pmax", "vceo", "vbe",
                                               "vbe_tc", "beta_tc")
 
 
@@ -53,7 +54,7 @@ def _metavar(k: Key) -> str:
         return "|".join(k.choices) if len(k.choices) <= 3 else k.name.upper()
     if k.unit == "K":
         return "KELVIN|27C"
-    if k.unit == "str":
+    if k.unit in ("str", "table"):
         return "TEXT"
     return UNITS[k.unit].metavar
 
@@ -74,14 +75,31 @@ def _file_parameter(help_: str) -> inspect.Parameter:
         annotation=Annotated[Optional[Path], typer.Argument(help=help_, show_default=False, metavar="BIAS_FILE")])
 
 
-FILE_HELP = "TOML bias file; its top-level keys are the option names (ic = \"1mA\"); options override it."
+FILE_HELP = ("TOML bias file; its top-level keys are the option names (ic = \"1mA\"); options override it. "
+             "A \\[network] table (type, vcc, r1, r2, rb, rc, re, re_bypassed, c_in, c_out, c_bypass, c_base) sets "
+             "the bias point and is part of the stage's AC analysis; a FET's \\[network] (rg1, rg2, rd, rsrc, "
+             "rsrc_bypassed and the capacitors) is used with a given id and vds only (no DC solution for FETs yet).")
 
 
-def bias_options(select: Callable[[Key], bool] = MODEL_KEYS, file_help: str = FILE_HELP) -> Callable:
+BARE_HELP = ("Analyse the bare transistor stage (with rdeg, rfb) instead of the stage as built from the bias "
+             "file's \\[network] table (bias resistors, rc, re, coupling and bypass capacitors); the network "
+             "still sets the bias point.")
+
+
+@functools.lru_cache(maxsize=None)
+def _bare_parameter() -> inspect.Parameter:
+    return inspect.Parameter(
+        "bare", inspect.Parameter.KEYWORD_ONLY, default=False,
+        annotation=Annotated[bool, typer.Option("--bare", help=BARE_HELP, rich_help_panel=PANELS["stagenet"])])
+
+
+def bias_options(select: Callable[[Key], bool] = MODEL_KEYS, file_help: str = FILE_HELP,
+                 bare: bool = False) -> Callable:
     """Add the bias-file argument and the options of the schema keys ``select`` picks to a command.
 
     The command receives them as one ``bias_in: Inputs`` argument.  The option parameters are
-    made once and shared by every command (start-up time).
+    made once and shared by every command (start-up time).  ``bare=True`` adds ``--bare``
+    (the stage without its ``[network]`` in the AC analysis, :meth:`Inputs.stage`).
     """
     chosen = tuple(k.id for k in keys().values() if select(k))
 
@@ -92,12 +110,13 @@ def bias_options(select: Callable[[Key], bool] = MODEL_KEYS, file_help: str = FI
         hints = typing.get_type_hints(func, include_extras=True)
         own = [p.replace(annotation=hints.get(p.name, p.annotation), kind=inspect.Parameter.KEYWORD_ONLY)
                for p in sig.parameters.values() if p.name != "bias_in"]
-        extra = [_parameter(kid) for kid in chosen]
+        extra = [_parameter(kid) for kid in chosen] + ([_bare_parameter()] if bare else [])
 
         @functools.wraps(func)
         def wrapper(*args, **kwargs):
             opts = {kid: kwargs.pop(keys()[kid].param, None) for kid in chosen}
-            kwargs["bias_in"] = Inputs(kwargs.pop("bias_file", None), opts)
+            kwargs["bias_in"] = Inputs(kwargs.pop("bias_file", None), opts, bare=bool(kwargs.pop("bare", False)))
+            kwargs["bias_in"].json = bool(kwargs.get("as_json"))
             return func(*args, **kwargs)
 
         wrapper.__signature__ = sig.replace(parameters=[_file_parameter(file_help)] + own + extra)
@@ -119,11 +138,18 @@ class Inputs:
         The bias file.
     options : dict of key id -> text or None
         Options as typed on the command line.
+    bare : bool
+        True: :meth:`stage` leaves the ``[network]`` table out of the AC analysis (the bare
+        transistor stage); the network still sets the bias point.
     """
 
-    def __init__(self, file: Path | None = None, options: dict[str, Any] | None = None) -> None:
+    def __init__(self, file: Path | None = None, options: dict[str, Any] | None = None, bare: bool = False) -> None:
         from ..biasfile import load_bias_file
 
+        self.bare = bare
+        self.json = False
+        #: Datasheet values used at other conditions than given: name -> {"given", ..., "used", "note"}.
+        self.datasheet: dict[str, dict] = {}
         self.file = file
         self.options = {k: v for k, v in (options or {}).items() if v is not None}
         self.flat, self.tables = load_bias_file(file) if file is not None else ({}, {})
@@ -131,6 +157,8 @@ class Inputs:
         self.values = merge(self.options, self.flat, self.tables, warnings=notes)
         for w in notes:
             warn(w)
+        if "temp" not in self.values and "tref" in self.values:
+            self.values["temp"] = self.values["tref"]  # the junction temperature defaults to tref
         self._model = None
         self._bias = None
 
@@ -160,11 +188,91 @@ class Inputs:
         """``bipolar``, ``mosfet`` or ``jfet``: which bias dataclass the device takes."""
         return FAMILY[self.device]
 
+    @property
+    def tref(self) -> float:
+        """The temperature at which the datasheet values are given, K (default 300 K)."""
+        from ..temperature import T_REF
+
+        return self.get("tref", T_REF)
+
+    def beta_at_temp(self, beta: float) -> float:
+        """``beta`` given at :attr:`tref`, moved to the junction temperature ``temp``
+        (:func:`devmodels.temperature.beta_at`; unchanged when temp = tref)."""
+        from ..temperature import BETA_TC_DEFAULT, beta_at
+
+        temp = self.get("temp", self.tref)
+        if temp == self.tref:
+            return beta
+        return beta_at(temp, beta, self.get("beta_tc", BETA_TC_DEFAULT), self.tref)
+
+    def _record(self, name: str, entry: dict) -> None:
+        """Keep a datasheet value's "given at X, used at Y" (``model --json`` key ``datasheet``) and
+        show its note on stderr in table mode."""
+        self.datasheet[name] = entry
+        if not self.json:
+            note_later(entry["note"])
+
+    def _check_datasheet(self) -> None:
+        """Conflicts and test conditions without their value (one line each, exit 2)."""
+        v = self.values
+        if "cmu" in v and "cob" in v:
+            raise InputError("cob: give cmu (C_mu at the bias point) or cob (at its test VCB), not both")
+        for cond, value in (("ft_at_ic", "ft"), ("ft_at_vce", "ft"), ("c_je", "ft"), ("cob_at_vcb", "cob"),
+                            ("cob_potential", "cob"), ("cob_exponent", "cob")):
+            if cond in v and value not in v:
+                raise InputError(f"{cond}: given without {value} (the datasheet value it belongs to)")
+        if "cob" in v and "cob_at_vcb" not in v:
+            raise InputError("cob_at_vcb: missing; give the test VCB of cob (datasheet, e.g. 10V)")
+        if ("ft_at_vce" in v or "c_je" in v) and "ft_at_ic" not in v:
+            name = "c_je" if "c_je" in v else "ft_at_vce"
+            raise InputError(f"ft_at_ic: missing; {name} needs the test IC of ft")
+
+    def _datasheet(self, ic: float, vce: float) -> dict:
+        """``ft`` and ``cmu`` of the bias point from the datasheet values at their test conditions
+        (:mod:`devmodels.datasheet`): ``{}`` when none is given."""
+        from ..temperature import VBE_DEFAULT, VBE_TC_DEFAULT, vbe_at
+
+        v = self.values
+        out: dict = {}
+        temp = self.get("temp", self.tref)
+        vbe_tc = self.get("vbe_tc", VBE_TC_DEFAULT)
+        vbe_ref = self.get("vbe", VBE_DEFAULT)
+        cmu_test = None
+        if "cob" in v:
+            from ..datasheet import COB_EXPONENT_DEFAULT, COB_POTENTIAL_DEFAULT, cmu_from_cob
+
+            law = dict(cob_potential=self.get("cob_potential", COB_POTENTIAL_DEFAULT),
+                       cob_exponent=self.get("cob_exponent", COB_EXPONENT_DEFAULT))
+            vbe = vbe_at(temp, vbe_ref, vbe_tc, self.tref)
+            c = cmu_from_cob(v["cob"], v["cob_at_vcb"], vce=vce, vbe=vbe, **law)
+            out["cmu"] = float(c.c_mu)
+            self._record("c_mu", {"given": c.cob, "at_vcb": c.cob_at_vcb, "used": float(c.c_mu),
+                                  "vcb": float(c.vcb), **law, "note": c.note})
+            if "ft_at_vce" in v:  # C_mu at the test point of fT, at tref
+                cmu_test = float(cmu_from_cob(v["cob"], v["cob_at_vcb"], vce=v["ft_at_vce"], vbe=vbe_ref,
+                                              **law).c_mu)
+        if "ft_at_ic" in v:
+            from ..datasheet import ft_at_bias
+
+            cmu = out.get("cmu", self.get("cmu", 0.0))
+            f = ft_at_bias(ic, v["ft"], v["ft_at_ic"], ft_at_vce=v.get("ft_at_vce"), c_je=v.get("c_je"),
+                           c_mu=cmu, c_mu_test=cmu_test, temp=temp, test_temp=self.tref)
+            out["ft"] = float(f.ft_used)
+            self._record("ft", {"given": f.ft, "at_ic": f.ft_at_ic, "at_vce": f.ft_at_vce, "used": float(f.ft_used),
+                                "ic": ic, "method": f.method, "tau_f": f.tau_f, "c_je": f.c_je, "note": f.note})
+        return out
+
     def has_network(self) -> bool:
         return "network" in self.tables
 
     def _check_family(self) -> None:
         fam = self.family
+        if fam != "bipolar":
+            dc = [keys()[k] for k in self.values if k.startswith("network.") and keys()[k].panel == "network"]
+            if dc:
+                raise InputError(f"{dc[0].label}: a {self.device} takes no DC bias network (it is solved for npn and "
+                                 "pnp only); give id and vds, and the stage's AC values in [network] as rg1, rg2, "
+                                 "rd, rsrc, rsrc_bypassed and the capacitors")
         for kid in self.values:
             k = keys()[kid]
             if k.family is None or k.family == fam or (k.family == "fet" and fam in ("mosfet", "jfet")):
@@ -201,7 +309,8 @@ class Inputs:
         """The :class:`~devmodels.dcbias.BiasNetwork` of the inputs, or None without one."""
         from ..dcbias import BiasNetwork
 
-        net = {k.split(".", 1)[1]: v for k, v in self.values.items() if k.startswith("network.")}
+        net = {k.split(".", 1)[1]: v for k, v in self.values.items()
+               if k.startswith("network.") and keys()[k].panel != "stagenet"}
         if not net and not self.has_network():
             return None
         kind = net.pop("type", None)
@@ -210,13 +319,79 @@ class Inputs:
                              "or 'type' in the [network] table")
         if "vcc" not in net:
             raise InputError("vcc: missing; give --vcc or 'vcc' in the [network] table (supply voltage in V)")
-        return BiasNetwork(kind=kind, tol=self.get("tol", 0.0), **net)
+        network = BiasNetwork(kind=kind, tol=self.get("tol", 0.0), **net)
+        if self.family == "bipolar":
+            self._stage_network(network)  # the AC values are checked by every command that reads the table
+        return network
+
+    def _stage_network(self, dc=None):
+        """The :class:`~devmodels.stagenetwork.StageNetwork` of the ``[network]`` table.
+
+        A bipolar network maps as it is (``type`` -> bias arrangement, ``r1``, ``r2``, ``rb``,
+        ``rc``, ``re``, ``re_bypassed``); a FET network's ``rg1``/``rg2``/``rd``/``rsrc``/
+        ``rsrc_bypassed`` become ``r1``/``r2``/``rc``/``re``/``re_bypassed`` (both gate resistors:
+        a divider; one of them: a single resistor from the gate to AC ground; none: nothing at
+        the gate).  The capacitors are shared.
+        """
+        from ..stagenetwork import StageNetwork
+
+        ac = {k.split(".", 1)[1]: v for k, v in self.values.items()
+              if k.startswith("network.") and keys()[k].panel == "stagenet"}
+        for name, v in ac.items():
+            if v != "short" and v < 0:
+                unit = keys()["network." + name].unit
+                what = "capacitance > 0 F (or \"short\")" if unit == "F" else "resistance >= 0 ohm"
+                raise InputError(f"{name}: expected a {what}, got {v:g}")
+        own = {"bipolar": ("r1", "r2", "rb", "rc", "re", "re_bypassed"), "fet": ("rg1", "rg2", "rd", "rsrc", "rsrc_bypassed")}
+        fam = "bipolar" if self.family == "bipolar" else "fet"
+        for name in ac:
+            other = keys()["network." + name].family
+            if other is not None and other != fam:
+                raise InputError(f"{name}: a {'FET' if other == 'fet' else 'bipolar'} network key, not used for a "
+                                 f"{self.device}; use {', '.join(own[fam])}")
+        if fam == "bipolar":
+            if dc is None:
+                dc = self.network()
+            part, whole, whole_name = ac.get("re_bypassed"), dc.re, "re"
+            fields = dict(bias=dc.kind, r1=dc.r1, r2=dc.r2, rb=dc.rb, rc=dc.rc, re=dc.re)
+            bypassed_name = "re_bypassed"
+        else:
+            rg1, rg2 = ac.get("rg1"), ac.get("rg2")
+            if rg1 is not None and rg2 is not None:
+                gate = dict(bias="divider", r1=rg1, r2=rg2)
+            elif rg1 is not None or rg2 is not None:
+                gate = dict(bias="fixed", rb=rg1 if rg1 is not None else rg2)
+            else:
+                gate = dict(bias="none")
+            for name in ("rg1", "rg2"):
+                if ac.get(name) == 0:
+                    raise InputError(f"{name}: expected a gate resistance > 0 ohm, got 0 (leave it out for none)")
+            part, whole, whole_name = ac.get("rsrc_bypassed"), ac.get("rsrc", 0.0), "rsrc"
+            fields = dict(**gate, rc=ac.get("rd", 0.0), re=whole)
+            bypassed_name = "rsrc_bypassed"
+        if part is not None:
+            if part > whole:
+                raise InputError(f"{bypassed_name}: {part:g} ohm is more than {whole_name} = {whole:g} ohm; the "
+                                 f"bypassed part of {whole_name} cannot be larger than {whole_name}")
+            if ac.get("c_bypass") is None:
+                raise InputError(f"{bypassed_name}: given without c_bypass (the capacitor that bypasses it)")
+        self._built = StageNetwork(**fields, re_bypassed=part, c_in=ac.get("c_in"), c_out=ac.get("c_out"),
+                                   c_bypass=ac.get("c_bypass"), c_base=ac.get("c_base"))
+        return self._built
+
+    def stage_network(self):
+        """The stage network of the AC analysis (:meth:`_stage_network`), or None: no ``[network]``
+        table, or ``bare``."""
+        if self.bare or not self.has_network():
+            return None
+        self._check_family()
+        return self._stage_network()
 
     def operating_point(self, beta: float | None = None):
         """The :class:`~devmodels.dcbias.OperatingPoint` of the bias network (any region)."""
         from ..bias import DEFAULT_VCE_SAT
         from ..dcbias import operating_point
-        from ..temperature import BETA_TC_DEFAULT, VBE_DEFAULT, VBE_TC_DEFAULT
+        from ..temperature import BETA_TC_DEFAULT, T_REF, VBE_DEFAULT, VBE_TC_DEFAULT
 
         network = self.network()
         if network is None:
@@ -224,10 +399,11 @@ class Inputs:
                              "or a [network] table in the bias file")
         if self.family != "bipolar":
             raise InputError(f"device: a bias network takes npn or pnp, got {self.device}")
-        beta = self.require("beta", "DC current gain at 300 K") if beta is None else beta
+        beta = self.require("beta", "DC current gain at tref") if beta is None else beta
         pmax, vceo = self.ratings()
         return operating_point(network, beta, device=self.device, vbe=self.get("vbe", VBE_DEFAULT),
-                               temp=self.get("temp", 300.0), vbe_tc=self.get("vbe_tc", VBE_TC_DEFAULT),
+                               temp=self.get("temp", T_REF), t_ref=self.tref,
+                               vbe_tc=self.get("vbe_tc", VBE_TC_DEFAULT),
                                beta_tc=self.get("beta_tc", BETA_TC_DEFAULT),
                                vce_sat=self.get("vce_sat", DEFAULT_VCE_SAT), pmax=pmax, vceo=vceo)
 
@@ -245,20 +421,59 @@ class Inputs:
             from ..bias import BipolarBias
 
             fields = self._fields(BipolarBias)
+            self._check_datasheet()
             if self.has_network():
-                for name in ("ic", "vce"):
-                    if name in fields:
+                for name in ("ic", "vce", "ib"):
+                    if name in self.values:
                         raise InputError(f"{name}: the bias file describes a bias network, which sets IC and VCE; "
                                          f"remove '{name}' (or the [network] table)")
+                if "hfe_table" in self.values:
+                    raise InputError("hfe_table: not yet usable with a [network] table (the network's point "
+                                     "depends on beta); give beta")
                 op = self.operating_point()
                 for w in op.warnings:  # the network's own rating check (power, VCE and the supply)
                     warn(w)
                 datasheet = {k: v for k, v in fields.items() if k not in ("beta", "temp", "vce_sat")}
+                if op.region == "active":
+                    datasheet.update(self._datasheet(abs(op.ic), abs(op.vce)))
                 bias = op.bipolar_bias(**datasheet)  # BiasError when the network is not in the active region
             else:
-                self.require("ic", "collector current in A, e.g. 1mA")
                 self.require("vce", "collector-emitter voltage in V, e.g. 5V")
-                self.require("beta", "current gain hFE, e.g. 100")
+                table = self.get("hfe_table")
+                if table is not None and "beta" in self.values:
+                    raise InputError("hfe_table: give beta or hfe_table, not both")
+                if table is None:
+                    self.require("beta", "current gain hFE, e.g. 100")
+                    beta = self.beta_at_temp(fields["beta"])
+                else:  # the table is given at tref: every hFE moves to temp by the same factor
+                    table = [[ic_, hfe * self.beta_at_temp(1.0)] for ic_, hfe in table]
+                    beta = None
+                if "ib" in self.values:
+                    from ..datasheet import ic_from_ib
+
+                    if "ic" in self.values:
+                        raise InputError("ib: give ic or ib, not both")
+                    got = ic_from_ib(self.values["ib"], beta, hfe_table=table)
+                    fields["ic"] = float(got.ic)
+                    self._record("ic", {"ib": self.values["ib"], "used": float(got.ic), "note": got.note})
+                    for w in got.warnings:
+                        warn(w)
+                else:
+                    self.require("ic", "collector current in A, e.g. 1mA (or ib)")
+                if table is not None:
+                    from ..datasheet import hfe_from_table
+
+                    h = hfe_from_table(table, fields["ic"])
+                    beta = float(h.beta)
+                    self._record("beta", {"table": self.values["hfe_table"], "used": beta, "at_ic": fields["ic"],
+                                          "temp": self.get("temp", self.tref), "tref": self.tref,
+                                          "note": h.note + ("" if self.get("temp", self.tref) == self.tref else
+                                                            f"; the table's hFE moved from tref = {self.tref:.2f} K "
+                                                            f"to {self.get('temp'):.2f} K (beta_tc)")})
+                    for w in h.warnings:
+                        warn(w)
+                fields["beta"] = beta
+                fields.update(self._datasheet(fields["ic"], fields["vce"]))
                 bias = BipolarBias(device=self.device, **fields)
             if not self.has_network():
                 for w in rating_warnings(bias.power, bias.vce, 0.0, pmax=pmax, vceo=vceo):
@@ -273,6 +488,8 @@ class Inputs:
                 self.require("vp", "pinch-off voltage in V, e.g. -2V")
             cls = MosfetBias if fam == "mosfet" else JfetBias
             bias = cls(device=self.device, **self._fields(cls))
+            if self.has_network():
+                self._stage_network()  # the FET network's AC values, checked by every command
             for w in rating_warnings(bias.id * bias.vds, 0.0, 0.0, pmax=pmax, vceo=None):
                 warn(w)
         self._bias = bias
@@ -301,7 +518,8 @@ class Inputs:
         ce or cs) with ``rdeg`` and ``rfb``."""
         from ..stage import Stage
 
-        return Stage(self.model(), config, self.get("rdeg", 0.0), self.get("rfb"))
+        model = self.model()
+        return Stage(model, config, self.get("rdeg", 0.0), self.get("rfb"), network=self.stage_network())
 
     def spread(self, config: str, freq: float, rs: complex, rl: complex, z0, samples: int, seed):
         """The :class:`~devmodels.spread.SpreadSetup` and :class:`~devmodels.spread.SpreadRanges`."""
@@ -313,6 +531,13 @@ class Inputs:
         self._check_family()
         if self.family != "bipolar":
             raise InputError(f"device: the spread takes npn or pnp, got {self.device}")
+        for kid in self.values:
+            if keys()[kid].panel == "datasheet":
+                raise InputError(f"{keys()[kid].name}: datasheet values at test conditions are not used by spread yet; "
+                                 "give ft, cmu and beta limits at the bias point")
+        if any(keys()[kid].panel == "stagenet" for kid in self.values):
+            warn("network: spread analyses the transistor with rdeg and rfb only; the [network] table's "
+                 "capacitors and its resistors are not in its AC analysis yet (they are in gain and sweep)")
         beta = self.get("beta")
         bmin, bmax, btyp = self.get("beta_min"), self.get("beta_max"), self.get("beta_typ")
         if (bmin is None) != (bmax is None):
@@ -322,7 +547,7 @@ class Inputs:
             if beta is None:
                 raise InputError("beta_min: missing; give --beta-min and --beta-max (or --beta for a fixed gain)")
             bmin = bmax = beta
-        temp = self.get("temp", 300.0)
+        temp = self.get("temp", self.tref)
         ranges = SpreadRanges(beta_min=bmin, beta_max=bmax, beta_typ=btyp, temp_min=self.get("temp_min", temp),
                               temp_max=self.get("temp_max", temp), tol=self.get("tol", 0.0), samples=samples,
                               seed=seed)
@@ -347,7 +572,7 @@ class Inputs:
             beta_tc=self.get("beta_tc", BETA_TC_DEFAULT), vce_sat=self.get("vce_sat", DEFAULT_VCE_SAT),
             va=self.get("va"), ft=self.get("ft"), cmu=self.get("cmu", 0.0), rb=self.get("rb", 0.0),
             rcx=self.get("rcx", 0.0), rex=self.get("rex", 0.0), rmu=self.get("rmu"), rdeg=self.get("rdeg"),
-            rfb=self.get("rfb"), z0=z0, pmax=pmax, vceo=vceo)
+            rfb=self.get("rfb"), z0=z0, pmax=pmax, vceo=vceo, t_ref=self.tref)
         if network is not None:  # the library's checks of a network point (supply sign, vce_sat, vbe)
             self.operating_point(beta=bmin)
         from ..validate import check_number

@@ -19,12 +19,12 @@ import numpy as np
 
 from ..units import format_complex, format_si
 
-__all__ = ["ClosedPipe", "stdout", "warn", "flush_warnings", "drop_warnings", "jsonable", "emit_json", "print_table",
+__all__ = ["ClosedPipe", "stdout", "warn", "note_later", "flush_warnings", "drop_warnings", "jsonable", "emit_json", "print_table",
            "note",
            "gain_text", "imp_text", "db_text", "stab_text", "msg_text", "zstr", "zjson", "z0json",
            "point_json", "print_gain", "print_twoport", "ELEMENT_UNITS"]
 
-_pending: list[str] = []
+_pending: list[tuple[str, str]] = []
 
 
 class ClosedPipe(Exception):
@@ -45,14 +45,22 @@ def stdout(text: str) -> None:
 
 def warn(message: str) -> None:
     """A warning for stderr, written once when the command ends without an error."""
-    if message not in _pending:
-        _pending.append(message)
+    if ("warning", message) not in _pending:
+        _pending.append(("warning", message))
+
+
+def note_later(message: str) -> None:
+    """A line of information for stderr (``devmodels: note: ...``), written once when the command
+    ends without an error (a datasheet value used at other conditions than given)."""
+    if ("note", message) not in _pending:
+        _pending.append(("note", message))
 
 
 def flush_warnings() -> None:
-    """Write the collected warnings to stderr (one line each)."""
+    """Write the collected warnings and notes to stderr (one line each)."""
     while _pending:
-        sys.stderr.write(f"devmodels: warning: {_pending.pop(0)}\n")
+        kind, message = _pending.pop(0)
+        sys.stderr.write(f"devmodels: {kind}: {message}\n")
 
 
 def drop_warnings() -> None:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import re
 import sys
 from pathlib import Path
@@ -42,7 +43,7 @@ def _check_plot(plot: Path | None) -> None:
 
 
 @command("gain")
-@bias_options()
+@bias_options(bare=True)
 def gain_cmd(bias_in: Inputs, config: ConfigOpt = None, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT_RL,
              freq: FreqOpt = None, z0: Z0Opt = "50", given: ParamsOpt = None,
              touchstone: TouchstoneOpt = None, polar: PolarOpt = False, plot: PlotOpt = None,
@@ -77,7 +78,7 @@ def gain_cmd(bias_in: Inputs, config: ConfigOpt = None, rs: RsOpt = DEFAULT_RS, 
 
 # --- compare -----------------------------------------------------------------------------
 @command("compare")
-@bias_options()
+@bias_options(bare=True)
 def compare_cmd(bias_in: Inputs, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT_RL, freq: OneFreqOpt = "1kHz",
                 z0: Z0Opt = "50",
                 plot: Annotated[Optional[Path], typer.Option(
@@ -121,7 +122,7 @@ def compare_cmd(bias_in: Inputs, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT_RL,
     names = ", ".join(c.upper() for c in configs)
     print_table(f"{names} at {format_si(float(f[0]), 'Hz')} between Rs = {zstr(zs)} and RL = {zstr(zl)}",
                 ["quantity", *(c.upper() for c in configs)], rows,
-                caption="bandwidth: where |avs| falls 3 dB below its low-frequency value "
+                caption="bandwidth: where |avs| falls 3 dB below its mid-band value above mid-band "
                         f"(searched up to {format_si(COMPARE_RANGE[1], 'Hz')})")
     for c in configs:
         wins = [cat.text for cat in CATEGORIES if best[cat.key] == c]
@@ -173,7 +174,7 @@ def _check_out(out: Path, kind: str) -> None:
 
 
 @command("sweep")
-@bias_options()
+@bias_options(bare=True)
 def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
               kind: Annotated[str, typer.Option("--kind", "-k", help="Parameter kind: y, z, h, g, abcd, s.",
                                                 metavar="KIND")] = "s",
@@ -188,6 +189,10 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
                                       ".g2p too), .ts (Touchstone 2.0), .csv or .json.", show_default=False,
                   metavar="FILE")] = None,
               polar: PolarOpt = False,
+              fmt: Annotated[Optional[str], typer.Option(
+                  "--format", help="Number format of --out Touchstone and CSV files: ri (real, imaginary), ma "
+                                   "(magnitude, angle) or db (dB, angle) (default ri; --polar: ma).",
+                  show_default=False, metavar="ri|ma|db")] = None,
               ts_version: Annotated[Optional[str], typer.Option(
                   "--touchstone-version", help="1.1 or 2.0 (default: 1.1 for .sNp unless the ports have "
                                                "different z0).", show_default=False, metavar="1.1|2.0")] = None,
@@ -202,6 +207,10 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
     if ts_version is not None and ts_version not in ("1.1", "2.0", "1", "2"):
         raise InputError(f"touchstone-version: expected 1.1 or 2.0, got {shown(ts_version)}")
     ts_version = {"1": "1.1", "2": "2.0"}.get(ts_version, ts_version)
+    if fmt is not None:
+        from ..export import number_format
+
+        fmt = number_format(fmt.strip().lower()).lower()
     f = _sweep_freqs(start, stop, points)
     zs, zl = terminations(rs, rl)
     z0v = parse_z0(z0)
@@ -227,16 +236,25 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
     fig_json = None if figs is None else figs.as_dict()
     if figs is not None:
         fig_json["avs0"] = figs.avs0
+        fig_json["low_terms"] = _terms_json(figs.low_terms)
+        fig_json["high_terms"] = _terms_json(figs.high_terms)
     written = None
     if out is not None:
         from ..export import write_by_extension
 
-        comment = (f"devmodels sweep: {config.upper()} stage, {f.size} points, "
-                   f"{format_si(float(f[0]), 'Hz')} to {format_si(float(f[-1]), 'Hz')}")
+        record = _record(bias_in, stage)
+        comment = "\n".join([f"devmodels sweep: {config.upper()} stage, {f.size} points, "
+                             f"{format_si(float(f[0]), 'Hz')} to {format_si(float(f[-1]), 'Hz')}"]
+                            + _record_lines(record))
 
         def write():
-            return write_by_extension(tp, out, polar=polar, version=ts_version, comment=comment,
-                                      extra_json={"figures": jsonable(fig_json)}, option="out")
+            if out.suffix.lower() == ".csv":  # write_by_extension does not hand the comment to CSV
+                from ..export import write_csv
+
+                return write_csv(tp, out, fmt if fmt is not None else polar, option="out", comment=comment), "CSV"
+            return write_by_extension(tp, out, polar=fmt if fmt is not None else polar, version=ts_version,
+                                      comment=comment, extra_json={"figures": jsonable(fig_json),
+                                                                   "stage": jsonable(record)}, option="out")
 
         if progress:
             from rich.console import Console
@@ -277,7 +295,59 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
         note(f"plot written to {plot}")
 
 
+def _record(bias_in: Inputs, stage) -> dict:
+    """What a written file holds: the device, the bias point used, the network, the configuration."""
+    import dataclasses
+
+    bias = bias_in.bias_point()
+    rec: dict = {"config": stage.config, "device": bias.device, "file": str(bias_in.file) if bias_in.file else None}
+    if bias_in.family == "bipolar":
+        rec["bias"] = {"ic": bias.ic, "vce": bias.vce, "temp": bias.temp, "tref": bias_in.tref, "beta": bias.beta}
+    else:
+        rec["bias"] = {"id": bias.id, "vds": bias.vds, "temp": getattr(bias, "temp", None)}
+    net = stage.network
+    rec["network"] = None if net is None else {k: v for k, v in dataclasses.asdict(net).items() if v is not None}
+    if stage.network is None and bias_in.has_network():
+        rec["network_note"] = "bare transistor stage (--bare): the network set the bias point only"
+    extra = {k: bias_in.get(k) for k in ("rdeg", "rfb") if bias_in.get(k) is not None}
+    if extra:
+        rec["stage"] = extra
+    return rec
+
+
+def _record_lines(rec: dict) -> list[str]:
+    """The record as comment lines (SI values with units)."""
+    b = rec["bias"]
+    if "ic" in b:
+        point = (f"bias point: {rec['device']}, IC = {format_si(b['ic'], 'A')}, VCE = {format_si(b['vce'], 'V')}, "
+                 f"T = {b['temp']:.2f} K, beta = {b['beta']:.6g} at T (datasheet values at {b['tref']:.2f} K)")
+    else:
+        point = f"bias point: {rec['device']}, ID = {format_si(b['id'], 'A')}, VDS = {format_si(b['vds'], 'V')}"
+    lines = [point]
+    if rec.get("file"):
+        lines.append(f"bias file: {rec['file']}")
+    net = rec["network"]
+    if net is None:
+        lines.append("network: none" + (f" ({rec['network_note']})" if rec.get("network_note") else ""))
+    else:
+        parts = [f"{k} = {v}" if isinstance(v, str) else
+                 f"{k} = {format_si(v, 'F' if k.startswith('c_') else 'Ω')}" for k, v in net.items()]
+        lines.append("network (AC ground at the supply): " + ", ".join(parts))
+    if rec.get("stage"):
+        lines.append("stage: " + ", ".join(f"{k} = {format_si(v, 'Ω')}" for k, v in rec["stage"].items()))
+    lines.append(f"configuration: {rec['config']}")
+    return lines
+
+
+def _terms_json(terms) -> list[dict]:
+    """Time-constant terms as JSON objects (F, ohm, s; the largest share first)."""
+    return [{"name": t.name, "capacitance": t.capacitance, "resistance": t.resistance, "tau": t.tau}
+            for t in terms]
+
+
 def _print_figures(figs, zs, zl, stage) -> None:
+    from ..units import format_complex
+
     lo, hi = figs.f_range
 
     def fq(v):
@@ -285,15 +355,48 @@ def _print_figures(figs, zs, zl, stage) -> None:
 
     err = figs.miller_error
     dev = stage.model.configs[0].upper()
+    has_caps = stage.network is not None and bool(stage.network.capacitors())
     beta_row = (["f_beta", fq(figs.f_beta), f"|h21| of the {dev} device 3 dB below {figs.h21_0:.4g}"]
                 if figs.h21_0 is not None else
                 ["f_beta", "unbounded", f"|h21| of the {dev} device has no finite value at 0 Hz"])
+    if figs.miller is not None:
+        miller_text = format_si(figs.miller, "Hz")
+    elif stage.config != stage.model.configs[0]:
+        miller_text = f"— ({dev} only)"
+    elif stage.rfb is not None or (stage.network is not None and stage.network.bias == "collector-feedback"):
+        miller_text = "— (not with rfb or collector-feedback bias)"
+    else:
+        miller_text = "—"
+    mid = figs.midband_avs if figs.midband_avs is not None else figs.avs0
     rows = [beta_row,
             ["fT", fq(figs.ft), f"|h21| of the {dev} device = 1"],
             ["fmax", fq(figs.fmax), "Mason's U = 1 (0 dB)"],
+            ["mid-band avs", format_complex(complex(mid)) if mid is not None else "—",
+             "avs, coupling/bypass capacitors shorted, device capacitances out"],
+            ["f_low", fq(figs.f_low) if has_caps else "— (no coupling or bypass capacitor)",
+             f"|avs| 3 dB below {abs(mid):.4g}, below mid-band"],
+            ["f_low estimate", format_si(figs.f_low_sctc, "Hz") if figs.f_low_sctc else "—",
+             "short-circuit time constants: Σ 1/(2π R_k C_k)"],
             ["bandwidth", fq(figs.bandwidth),
-             f"|avs| 3 dB below {abs(figs.avs0):.4g} (Rs = {zstr(zs)}, RL = {zstr(zl)})"],
-            ["Miller estimate", format_si(figs.miller, "Hz") if figs.miller else f"— ({dev} without rdeg/rfb only)",
-             "1/(2π R C_in), C_in = C_pi + C_mu(1 + gm RL'), R = (Rs + rb) || r_pi"
+             f"|avs| 3 dB below {abs(mid):.4g}, above mid-band (Rs = {zstr(zs)}, RL = {zstr(zl)})"],
+            ["bandwidth estimate", format_si(figs.bandwidth_octc, "Hz") if figs.bandwidth_octc else "—",
+             "open-circuit time constants: 1/(2π Σ R_k C_k)"],
+            ["Miller estimate", miller_text,
+             "1/(2π R C_in), C_in = C_pi + C_mu (1 + gain to the collector), R at the base"
              + (f"; {err * 100:+.1f} % off" if err is not None else "")]]
     print_table("Frequency figures", ["figure", "value", "definition"], rows)
+    for title, terms, share in (("Low corner: time constants of the coupling and bypass capacitors", figs.low_terms,
+                                 "1/τ"),
+                                ("High corner: time constants of the device capacitances", figs.high_terms, "τ")):
+        if not terms:
+            continue
+        total = sum((1.0 / t.tau if t.tau else 0.0) if share == "1/τ" else t.tau for t in terms)
+        trows = []
+        for t in terms:
+            part = (1.0 / t.tau if t.tau else 0.0) if share == "1/τ" else t.tau
+            pct = f"{100 * part / total:.1f} %" if total and math.isfinite(total) and math.isfinite(part) else "—"
+            res = "open" if math.isinf(t.resistance) else format_si(t.resistance, "Ω")
+            tau = "unbounded" if math.isinf(t.tau) else format_si(t.tau, "s")
+            trows.append([t.name, format_si(t.capacitance, "F"), res, tau, pct])
+        print_table(title, ["capacitor", "C", "R seen", "τ = R C", f"share of Σ {share}"], trows,
+                    caption="largest share first")
