@@ -1,7 +1,8 @@
 """Histograms of a spread analysis (matplotlib, imported here only, Agg backend).
 
 One panel per result: the histogram of the samples, the 5th/50th/95th percentiles as
-dashed lines, and the two corner cases (every limit low, every limit high) as markers.  The
+dashed lines, and the worst case over the box of limits (``worst_min``, ``worst_max`` of
+:func:`devmodels.worstcase.worst_case`) as markers.  Bipolar and FET spreads alike.  The
 figure is rendered into memory and written atomically (:func:`devmodels.plotting.save_figure`).
 """
 
@@ -18,9 +19,9 @@ __all__ = ["plot_spread"]
 PANELS: tuple[tuple[str, str], ...] = (
     ("av", "|av| = |V2/V1|"), ("avs", "|avs| = |V2/Vs|"), ("zin", "|Zin| (kΩ)"), ("zout", "|Zout| (kΩ)"),
     ("gt_db", "GT (dB)"), ("ai", "|ai| = |-I2/I1|"), ("ic", "IC (mA)"), ("vce", "VCE (V)"),
-    ("power", "P (mW)"), ("k", "Rollett K"),
+    ("power", "P (mW)"), ("k", "Rollett K"), ("gm", "gm (mS)"), ("ro", "ro (kΩ)"),
 )
-_SCALE = {"ic": 1e3, "power": 1e3, "zin": 1e-3, "zout": 1e-3}
+_SCALE = {"ic": 1e3, "power": 1e3, "zin": 1e-3, "zout": 1e-3, "gm": 1e3, "ro": 1e-3}
 
 
 def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
@@ -29,7 +30,8 @@ def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
     Parameters
     ----------
     result : SpreadResult
-        What :func:`devmodels.spread.run_spread` returned.
+        What :func:`devmodels.spread.run_spread` returned, with its per-sample values
+        (``keep_values=True``).
     path : str or Path
         Output file.
     bins : int
@@ -48,9 +50,12 @@ def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
         The file cannot be written (``"plot: cannot write ..."``); an existing file is left
         as it was.
     """
+    from .exceptions import InputError
     from .fileio import check_destination
     from .plotting import save_figure
 
+    if result.values is None:
+        raise InputError("plot: the histograms need every sample's value; run the spread with keep_values=True")
     out = check_destination(path, option="plot")
     import matplotlib
 
@@ -72,11 +77,12 @@ def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
         st = result.stats[key]
         for q, style in (("p5", ":"), ("p50", "--"), ("p95", ":")):
             ax.axvline(st[q] * scale, color="#333333", linestyle=style, linewidth=1)
-        for corner, color, marker in (("min", "#c44e52", "v"), ("max", "#dd8452", "^")):
-            c = result.corners[corner][key]
-            if c is not None:
-                ax.plot([c * scale], [0], marker=marker, color=color, markersize=9, clip_on=False,
-                        linestyle="none", label=f"corner {corner}")
+        w = (result.worst or {}).get(key) or {}
+        for end, color, marker in (("min", "#c44e52", "v"), ("max", "#dd8452", "^")):
+            x = w.get(f"worst_{end}")
+            if x is not None and math.isfinite(x):
+                ax.plot([x * scale], [0], marker=marker, color=color, markersize=9, clip_on=False,
+                        linestyle="none", label=f"worst {end}")
         ax.set_xlabel(label)
         ax.set_yticks([])
         ax.tick_params(axis="x", labelsize=8)
@@ -93,12 +99,21 @@ def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
         return f"{format_si(z.real, 'Ω')} {'+' if z.imag >= 0 else '-'} j{format_si(abs(z.imag), 'Ω')}"
 
     fig.suptitle(f"{s.config.upper()} stage at {format_si(s.freq, 'Hz')}, Rs = {imp(s.rs)}, RL = {imp(s.rl)}: "
-                 f"{result.samples:,} samples (seed {result.seed})\nbeta {r.beta_min:g}..{r.beta_max:g}, "
-                 f"T {r.temp_min:.1f}..{r.temp_max:.1f} K, resistors ±{r.tol * 100:g} %; "
-                 "dashed: median; dotted: 5th and 95th percentiles; triangles: corners (all low, all high)",
+                 f"{result.samples:,} samples (seed {result.seed})\n{_limits_text(s, r)}; "
+                 "dashed: median; dotted: 5th and 95th percentiles; triangles: worst min / max over the limits",
                  fontsize=9)
     fig.tight_layout()
     try:
         return save_figure(fig, out, option="plot")
     finally:
         plt.close(fig)
+
+
+def _limits_text(setup, ranges) -> str:
+    """The limits in one line for the title."""
+    if hasattr(ranges, "beta_min"):
+        return (f"beta {ranges.beta_min:g}..{ranges.beta_max:g}, T {ranges.temp_min:.1f}..{ranges.temp_max:.1f} K, "
+                f"resistors ±{ranges.tol * 100:g} %")
+    parts = [f"{n} {lo:.3g}" + ("" if lo == hi else f"..{hi:.3g}") for n, (lo, hi) in setup.limits(ranges).items()
+             if n not in setup.resistors]
+    return ", ".join(parts) + (f", resistors ±{ranges.tol * 100:g} %" if ranges.tol > 0 else "")

@@ -609,34 +609,9 @@ class FetSpreadSetup:
         return out
 
     def _worst_case(self, ranges: FetSpreadRanges) -> dict:
-        # The box search of devmodels.worstcase.worst_case reads the bipolar limits only; until
-        # it takes a setup's own limits() and evaluate_points(), a FET's extremes are those over
-        # the vertices of its box, with no monotonicity check (method 'vertices-only').
-        from .worstcase import vertices
+        from .worstcase import worst_case
 
-        lim = self.limits(ranges)
-        if all(lo == hi for lo, hi in lim.values()):  # one point (vertices() needs a limit of some width)
-            pts = {n: np.array([lo]) for n, (lo, _) in lim.items()}
-        else:
-            pts = vertices(lim)
-        r = self.evaluate_points(pts)
-        nominal = self.resistors
-        out = {}
-        for name in FET_RESULTS:
-            v = np.asarray(r[name], dtype=float)
-            fin = np.isfinite(v)
-            entry = {"undefined_vertices": int(v.size - fin.sum()), "method": "vertices-only"}
-            if not fin.any():
-                entry.update(worst_min=None, worst_max=None, worst_min_at=None, worst_max_at=None)
-            for key, k in (("min", np.argmin(np.where(fin, v, np.inf))), ("max", np.argmax(np.where(fin, v, -np.inf)))):
-                if fin.any():
-                    entry[f"worst_{key}"] = float(v[k])
-                    entry[f"worst_{key}_at"] = {n: (float(lo * nominal.get(n, 1.0)) if lo == hi else
-                                                    ("low" if pts[n][k] == lo else "high"))
-                                                for n, (lo, hi) in lim.items()}
-            out[name] = {k: entry[k] for k in ("worst_min", "worst_max", "worst_min_at", "worst_max_at", "method",
-                                               "undefined_vertices")}
-        return out
+        return worst_case(self, ranges)
 
     _region_names = ("saturation",)
     _track_max = ()

@@ -3,12 +3,13 @@ r"""Worst case over a box of limits, yield against specifications, streaming qua
 **Worst case.**  The limits of a spread (:mod:`devmodels.spread`) form a box: beta between
 ``beta_min`` and ``beta_max``, the temperature between ``temp_min`` and ``temp_max`` and
 each toleranced resistor between :math:`1 - tol` and :math:`1 + tol` times its nominal
-value.  :func:`worst_case` evaluates every vertex of the box (:math:`2^n` points) together
-with seven points inside every edge (at 1/8 .. 7/8) and the centre, all in one call of
-:func:`devmodels.spread.evaluate`.  A result whose values along every edge are monotonic
-(the nine points of each edge in order, within a relative 1e-9) and whose centre lies
-between its vertex extremes is taken as monotonic in each limit: its extremes are then at
-vertices (``method = 'vertices'``).  This check is a heuristic on the edges; it does not
+value (a FET's box: IDSS and VP, or kn or Vov, lambda and the resistors; the setup names
+its own limits, :func:`box_limits`).  :func:`worst_case` evaluates every vertex of the box
+(:math:`2^n` points) together with seven points inside every edge (at 1/8 .. 7/8) and the
+centre, all in one call of the setup's ``evaluate_points``.  A result whose values along
+every edge are monotonic (the nine points of each edge in order, within a relative 1e-9)
+and whose centre lies between its vertex extremes is taken as monotonic in each limit: its
+extremes are then at vertices (``method = 'vertices'``).  This check is a heuristic on the edges; it does not
 prove monotonicity inside the box.  Otherwise (or where a result does not exist at some
 point) a bounded local search follows (``method = 'vertices+search'``), from the best point
 evaluated so far: each step tries a grid of :data:`GRID` values along every limit through
@@ -63,7 +64,7 @@ REL_WIDTH = 1e-4
 Z95 = 1.959963984540054
 #: Units of the results that have one (for values in specifications).
 SPEC_UNITS: dict[str, str] = {"zin": "Ohm", "zout": "Ohm", "f_low": "Hz", "bandwidth": "Hz", "ic": "A",
-                              "vce": "V", "power": "W"}
+                              "vce": "V", "power": "W", "gm": "S", "ro": "Ohm"}
 _OPS = (">=", "<=", ">", "<")
 _EDGE_FRACTIONS = tuple(np.arange(1, 8) / 8.0)
 #: Random points tried around the current point in each search step, per limit.
@@ -84,7 +85,7 @@ def vertices(limits: Mapping[str, tuple[float, float]]) -> dict[str, np.ndarray]
     -------
     dict of str -> ndarray (2**m,)
         The corners, ``m`` the number of limits with ``lo < hi``; the first such limit varies
-        slowest (the order of :func:`itertools.product`).
+        slowest (the order of :func:`itertools.product`).  With every limit fixed, one point.
     """
     names = list(limits)
     for n in names:
@@ -92,7 +93,9 @@ def vertices(limits: Mapping[str, tuple[float, float]]) -> dict[str, np.ndarray]
         if not (math.isfinite(lo) and math.isfinite(hi)) or lo > hi:
             raise InputError(f"{n}: expected finite limits lo <= hi, got {lo!r}, {hi!r}")
     wide = [n for n in names if limits[n][0] < limits[n][1]]
-    corners = np.array(list(itertools.product((0, 1), repeat=len(wide))), dtype=float).reshape(-1, len(wide))
+    # explicit shape: with every limit fixed there is one corner of zero width (reshape(-1, 0) fails)
+    corners = np.array(list(itertools.product((0, 1), repeat=len(wide))), dtype=float).reshape(2 ** len(wide),
+                                                                                              len(wide))
     out = {}
     for n in names:
         lo, hi = (float(x) for x in limits[n])
@@ -104,21 +107,31 @@ def vertices(limits: Mapping[str, tuple[float, float]]) -> dict[str, np.ndarray]
 
 
 def box_limits(setup, ranges) -> dict[str, tuple[float, float]]:
-    """The box of a spread's limits.
+    """The box of a spread's limits: ``setup.limits(ranges)``.
 
     Parameters
     ----------
-    setup : devmodels.spread.SpreadSetup
-        Its toleranced resistors (``setup.resistors``).
-    ranges : devmodels.spread.SpreadRanges
+    setup : devmodels.spread.SpreadSetup or devmodels.spread.FetSpreadSetup
+        The fixed part; it names its limits (:meth:`~devmodels.spread.SpreadSetup.limits`).
+    ranges : devmodels.spread.SpreadRanges or devmodels.spread.FetSpreadRanges
         The limits.
 
     Returns
     -------
     dict of str -> (float, float)
-        ``beta`` (at the reference temperature), ``temp`` (K) and, with a tolerance, a
-        multiplier ``(1 - tol, 1 + tol)`` for every resistor of ``setup.resistors``.
+        Bipolar: ``beta`` (at the reference temperature), ``temp`` (K) and, with a tolerance, a
+        multiplier ``(1 - tol, 1 + tol)`` for every resistor of ``setup.resistors``.  FET: the
+        keys of :meth:`devmodels.spread.FetSpreadSetup.limits` (``idss``, ``vp`` or ``kn`` /
+        ``vov``, ``lambda``, resistor multipliers).
     """
+    from .spread import SpreadSetup
+
+    if isinstance(setup, SpreadSetup):  # SpreadSetup.limits() is this function's bipolar branch
+        return _bipolar_box(setup, ranges)
+    return setup.limits(ranges)
+
+
+def _bipolar_box(setup, ranges) -> dict[str, tuple[float, float]]:
     out = {"beta": (float(ranges.beta_min), float(ranges.beta_max)),
            "temp": (float(ranges.temp_min), float(ranges.temp_max))}
     if ranges.tol > 0:
@@ -128,10 +141,8 @@ def box_limits(setup, ranges) -> dict[str, tuple[float, float]]:
 
 
 def _evaluate(setup, points: Mapping[str, np.ndarray]) -> dict:
-    from .spread import evaluate
-
-    factors = {k: v for k, v in points.items() if k not in ("beta", "temp")}
-    return evaluate(setup, points["beta"], points["temp"], factors)
+    """Every result of ``setup`` at the points (one array per limit): ``setup.evaluate_points``."""
+    return setup.evaluate_points(dict(points))
 
 
 def _monotone(seq: np.ndarray) -> np.ndarray:
@@ -161,12 +172,13 @@ def worst_case(setup, ranges, *, results: Iterable[str] | None = None, grid: int
 
     Parameters
     ----------
-    setup : devmodels.spread.SpreadSetup
-        The fixed part of the stage.
-    ranges : devmodels.spread.SpreadRanges
+    setup : devmodels.spread.SpreadSetup or devmodels.spread.FetSpreadSetup
+        The fixed part of the stage: it names its limits (``setup.limits``, through
+        :func:`box_limits`) and evaluates points of the box (``setup.evaluate_points``).
+    ranges : devmodels.spread.SpreadRanges or devmodels.spread.FetSpreadRanges
         The limits (``samples``, ``seed`` and ``beta_typ`` are not used).
     results : iterable of str, optional
-        Results to report (default every one of :data:`devmodels.spread.RESULTS`).
+        Results to report (default every one of ``setup.results``).
     grid : int
         Grid points per limit in each step of the local search (>= 3).
     max_steps : int
@@ -183,10 +195,11 @@ def worst_case(setup, ranges, *, results: Iterable[str] | None = None, grid: int
     """
     from .spread import RESULTS
 
-    names_r = list(RESULTS if results is None else results)
+    known = tuple(getattr(setup, "results", RESULTS))
+    names_r = list(known if results is None else results)
     for r in names_r:
-        if r not in RESULTS:
-            raise InputError(f"results: {r!r} is not a result; expected one of {', '.join(RESULTS)}")
+        if r not in known:
+            raise InputError(f"results: {r!r} is not a result; expected one of {', '.join(known)}")
     if isinstance(grid, bool) or not isinstance(grid, int) or grid < 3:
         raise InputError(f"grid: expected a whole number >= 3, got {grid!r}")
     limits = box_limits(setup, ranges)
@@ -358,7 +371,8 @@ def parse_spec(text: str, results: Iterable[str] | None = None) -> tuple[str, st
     text : str
         The specification.  OP is one of ``>=``, ``<=``, ``>``, ``<``.  VALUE is a number with an
         optional SI prefix and the result's unit where it has one (:data:`SPEC_UNITS`: ohm for
-        ``zin``/``zout``, Hz for ``f_low``/``bandwidth``, A, V, W for ``ic``, ``vce``, ``power``);
+        ``zin``/``zout``/``ro``, S for ``gm``, Hz for ``f_low``/``bandwidth``, A, V, W for ``ic``,
+        ``vce``, ``power``);
         ``gt_db`` takes an optional ``dB``.
     results : iterable of str, optional
         The names a specification may use (default :data:`devmodels.spread.RESULTS`).

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 from pathlib import Path
 
 import pytest
@@ -120,6 +121,7 @@ def test_every_bias_point_command_takes_the_network(run, cmd):
 def test_gain_from_network_equals_explicit(run_json, tmp_path):
     path = _write(tmp_path, NET_FILE)
     op = operating_point(BiasNetwork("divider", 12.0, rc=2.2e3, re=1e3, r1=47e3, r2=10e3), 100.0)
+    # --bare: the bare transistor at the solved point (without it, the network is in the AC circuit)
     a = run_json("params", path, "-f", "1MHz", "--kind", "s", "--bare")
     b = run_json("params", "--ic", repr(op.ic), "--vce", repr(op.vce), "--beta", "100", "--va", "80V",
                  "-f", "1MHz", "--kind", "s")
@@ -131,9 +133,14 @@ def test_spread_json_and_reproducible(run_json):
     a, b = run_json(*args), run_json(*args)
     assert a == b and a["samples"] == 3000 and a["seed"] == 7
     for name in ("av", "avs", "zin", "zout", "gt_db", "ic", "vce"):
-        assert set(a[name]) == {"min", "p5", "p50", "p95", "max"}
+        assert set(a[name]) == {"min", "p5", "p50", "p95", "max", "worst_min", "worst_max", "worst_min_at",
+                                "worst_max_at", "method"}
         assert a[name]["min"] <= a[name]["p50"] <= a[name]["max"]
+        assert set(a[name]["worst_max_at"]) >= {"beta", "temp"}
     assert set(a["corners"]) == {"min", "max", "nominal"}
+    for key in ("samples", "seed", "regions", "ranges", "warnings", "config", "freq", "rs", "rl", "network", "plot"):
+        assert key in a
+    assert "yield" not in a  # only with --spec
 
 
 def test_spread_without_network(run_json):
@@ -149,7 +156,7 @@ def test_spread_table_and_plot(run, tmp_path):
     png = tmp_path / "h.png"
     code, out, err = run("spread", EXAMPLE, "-n", "2000", "--seed", "1", "--plot", str(png))
     assert code == 0, err
-    assert "corner min" in out and "p95" in out
+    assert "worst min" in out and "worst max" in out and "p95" in out and "corner" not in out
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
 
 
@@ -212,7 +219,8 @@ def test_bad_network_files_are_one_line(run, tmp_path, case, cmd):
         d = json.loads(out)
         region = {"saturated": "saturation", "cutoff": "cutoff"}[case]
         assert d["regions"][region] == 200 and d["regions"]["active"] == 0
-        assert all(d[k] is None for k in ("av", "avs", "ai", "zin", "zout", "gt_db", "k"))
+        assert all(d[k]["p50"] is None and d[k]["worst_min"] is None for k in ("av", "avs", "ai", "zin", "zout",
+                                                                                "gt_db", "k"))
         assert d["ic"] is not None and (d["ic"]["max"] == 0) == (case == "cutoff")
         lines = err.strip().splitlines()
         said = {"saturated": "200 of 200 samples are in saturation", "cutoff": "and 200 in cutoff"}[case]
@@ -233,3 +241,185 @@ def test_spread_takes_complex_terminations(run_json):
                  "--rs", "50+j10", "--rl", "1k-j200", "--samples", "500", "--seed", "1")
     assert d["rs"] == [50.0, 10.0] and d["rl"] == [1000.0, -200.0]
     assert d["avs"]["min"] <= d["avs"]["p50"] <= d["avs"]["max"]
+
+
+# --- worst case and yield through the command line -------------------------------------------------
+
+STATS = ("min", "p5", "p50", "p95", "max")
+
+
+@pytest.mark.parametrize("args", [
+    (EXAMPLE,),
+    (EXAMPLE, "--tol", "10", "--temp-min", "-40C", "--temp-max", "125C", "-c", "cc", "--rl", "200"),
+    ("--ic", "1mA", "--vce", "5", "--beta-min", "50", "--beta-max", "400", "--rdeg", "220", "--tol", "5",
+     "--ft", "300MHz", "--cmu", "2p", "-f", "10MHz", "-c", "cb"),
+])
+def test_every_sample_lies_inside_the_worst_case(run_json, args):
+    d = run_json("spread", *args, "-n", "400", "--seed", "5")
+    checked = 0
+    for name, entry in d.items():
+        if not isinstance(entry, dict) or "worst_min" not in entry or entry["p50"] is None:
+            continue
+        lo, hi = entry["worst_min"], entry["worst_max"]
+        slack = 1e-9 * max(abs(lo), abs(hi))
+        vals = [entry[q] for q in STATS]
+        assert vals == sorted(vals), (name, vals)
+        assert lo - slack <= entry["min"] and entry["max"] <= hi + slack, (name, lo, entry["min"], entry["max"], hi)
+        assert entry["method"] in ("vertices", "vertices+search")
+        checked += 1
+    assert checked >= 9
+    assert not any(w.startswith("worst case:") for w in d["warnings"])
+
+
+def _fixed_base_file(tmp_path):
+    return _write(tmp_path, 'beta_min = 100\nbeta_max = 300\nvbe = 0.7\n[network]\ntype = "fixed"\nvcc = 12\n'
+                            'rb = "1M"\nrc = "1k"\n', "fixed.toml")
+
+
+def test_yield_against_the_closed_form_of_a_fixed_base_network(run_json, tmp_path):
+    # Fixed base bias at the reference temperature: IB = (VCC - VBE) / RB for every part, IC = beta IB,
+    # beta uniform on [a, b] = [100, 300]. The spec IC >= t holds where beta >= t' = t RB / (VCC - VBE).
+    # Closed form of the fraction: (b - t') / (b - a).
+    a, b, vcc, vbe, rb = 100.0, 300.0, 12.0, 0.7, 1e6
+    t = 2e-3
+    t_prime = t * rb / (vcc - vbe)
+    closed_form = (b - t_prime) / (b - a)
+    n = 40000
+    d = run_json("spread", _fixed_base_file(tmp_path), "--spec", "ic>=2mA", "-n", str(n), "--seed", "3")
+    y = d["yield"]
+    assert set(y) >= {"fraction", "ci95", "specs", "worst_case_pass"}
+    assert y["specs"] == ["ic>=0.002"]
+    sigma = math.sqrt(closed_form * (1 - closed_form) / n)
+    assert abs(y["fraction"] - closed_form) < 4 * sigma
+    lo, hi = y["ci95"]
+    assert lo < y["fraction"] < hi and hi - lo == pytest.approx(2 * 1.96 * sigma, rel=0.05)
+    # the worst IC (beta = 100) is 1.13 mA: the spec fails over the box; 1 mA holds everywhere
+    assert y["worst_case_pass"] is False and y["most_failed"] == "ic>=0.002"
+    assert d["ic"]["worst_min"] == pytest.approx(a * (vcc - vbe) / rb, rel=1e-12)
+    e = run_json("spread", _fixed_base_file(tmp_path), "--spec", "ic>=1mA", "--spec", "vce>=8V", "-n", "500",
+                 "--seed", "3")["yield"]
+    assert e["fraction"] == 1.0 and e["worst_case_pass"] is True and e["ci95"][1] == 1.0
+
+
+def test_yield_line_in_the_table(run, tmp_path):
+    code, out, err = run("spread", _fixed_base_file(tmp_path), "--spec", "ic>=2mA", "-n", "2000", "--seed", "3")
+    assert code == 0, err
+    text = " ".join(out.split())
+    assert "Yield:" in text and "95 % interval" in text and "fails most often: ic>=0.002" in text
+    assert "Worst case over the limits: fails." in text
+
+
+@pytest.mark.parametrize("spec, start", [
+    ("gain>=40", "spec: 'gain' is not a result"),
+    ("gm>=1m", "spec: 'gm' is not a result"),      # a FET result, not one of a bipolar spread
+    ("av=>40", "spec: "),
+    ("av>=", "spec"),
+    ("av 40", "spec: "),
+    ("zin>=5V", "spec zin: "),
+    ("", "spec: "),
+])
+def test_bad_specs_are_one_line(run, spec, start):
+    assert_one_line_error(run, "spread", EXAMPLE, "-n", "100", "--seed", "1", "--spec", spec, prefix=start)
+
+
+# --- FETs ---------------------------------------------------------------------------------------
+
+JFET = ["--device", "njfet", "--id", "1mA", "--vds", "5", "--cgs", "3p", "--cgd", "1p", "-f", "1MHz", "--rl", "5k"]
+
+
+@pytest.mark.parametrize("device, fixed, collapsed", [
+    ("njfet", ["--idss", "8mA", "--vp", "-2"], ["--idss-min", "8mA", "--idss-max", "8mA", "--vp-min", "-2",
+                                               "--vp-max", "-2"]),
+    ("pjfet", ["--idss", "8mA", "--vp", "2"], ["--idss-min", "8m", "--idss-max", "8m", "--vp-min", "2",
+                                              "--vp-max", "2"]),
+    ("nmos", ["--kn", "4m"], ["--kn-min", "4m", "--kn-max", "4m"]),
+    ("nmos", ["--vov", "0.4"], ["--vov-min", "400mV", "--vov-max", "0.4V"]),
+])
+def test_fet_spread_with_collapsed_limits_matches_gain(run_json, device, fixed, collapsed):
+    base = ["--device", device] + JFET[2:] + ["--lambda", "0.02"]
+    g = run_json("gain", *base, *fixed, "-c", "cs")["points"][0]
+    for limits in (collapsed, fixed):  # the limits, or the fixed values as collapsed limits
+        d = run_json("spread", *base, *limits, "-n", "50", "--seed", "2")
+        assert d["config"] == "cs" and d["device"] == device and d["network"] is None
+        for name in ("av", "avs", "zin", "zout", "gt_db"):
+            want = g[name] if name == "gt_db" else abs(complex(*g[name]))
+            for q in STATS + ("worst_min", "worst_max"):
+                assert d[name][q] == pytest.approx(want, rel=1e-9), (name, q)
+        assert d["ro"]["p50"] == pytest.approx(1 / (0.02 * 1e-3), rel=1e-12)
+
+
+def test_jfet_spread_limits_worst_case_and_yield(run_json, run):
+    args = ["spread", *JFET, "--idss-min", "4mA", "--idss-max", "12mA", "--vp-min", "-1", "--vp-max", "-3",
+            "--lambda-min", "0.01", "--lambda-max", "0.02", "--rdeg", "100", "--tol", "5", "-n", "2000",
+            "--seed", "4", "--spec", "gm>=2mS", "--spec", "ro>=60k"]
+    d = run_json(*args)
+    # gm = (2/|VP|) sqrt(ID IDSS): extremes at the corners of idss and vp
+    assert d["gm"]["worst_max"] == pytest.approx(2 / 1.0 * math.sqrt(1e-3 * 12e-3), rel=1e-12)
+    assert d["gm"]["worst_min"] == pytest.approx(2 / 3.0 * math.sqrt(1e-3 * 4e-3), rel=1e-12)
+    assert d["gm"]["worst_max_at"]["idss"] == "high" and d["gm"]["worst_max_at"]["vp"] == "low"
+    for name in ("av", "gm", "ro", "zout"):
+        e = d[name]
+        assert e["worst_min"] <= e["min"] <= e["p5"] <= e["p95"] <= e["max"] <= e["worst_max"] * (1 + 1e-12)
+    assert d["ranges"] == {"idss_min": 4e-3, "idss_max": 12e-3, "vp_min": 1.0, "vp_max": 3.0, "lambda_min": 0.01,
+                           "lambda_max": 0.02, "tol": pytest.approx(5.0)}
+    assert d["yield"]["specs"] == ["gm>=0.002", "ro>=60000"] and d["yield"]["worst_case_pass"] is False
+    assert 0 < d["yield"]["fraction"] < 1
+    code, out, err = run(*args)
+    assert code == 0 and "gm" in out and "worst min" in out and "Yield:" in " ".join(out.split())
+
+
+def test_fet_spread_plot(run, tmp_path):
+    png = tmp_path / "f.png"
+    code, out, err = run("spread", *JFET, "--idss-min", "4mA", "--idss-max", "12mA", "--vp-min", "1",
+                         "--vp-max", "3", "-n", "500", "--seed", "1", "--plot", str(png))
+    assert code == 0, err
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+@pytest.mark.parametrize("args, prefix", [
+    (JFET + ["--idss-min", "4mA", "--idss-max", "12mA"], "vp_min: missing"),
+    (JFET + ["--idss-min", "4mA", "--vp-min", "1", "--vp-max", "3"], "idss_max: missing"),
+    (JFET + ["--idss-min", "4mA", "--idss-max", "12mA", "--vp", "2", "--kn-min", "1m", "--kn-max", "2m"], "kn_min: "),
+    (JFET + ["--idss-min", "0.5mA", "--idss-max", "12mA", "--vp", "2"], "id: "),
+    (JFET + ["--idss-min", "12mA", "--idss-max", "4mA", "--vp", "2"], "idss_min: "),
+    (JFET + ["--idss-min", "4mA", "--idss-max", "12mA", "--vp-min", "1", "--vp-max", "3", "--beta-min", "50",
+             "--beta-max", "100"], "beta_min: "),
+    (JFET + ["--idss-min", "4mA", "--idss-max", "12mA", "--vp-min", "1", "--vp-max", "3V", "--vds", "1"], "vds: "),
+    (JFET + ["--idss-min", "4V", "--idss-max", "12mA", "--vp", "2"], "idss_min: "),
+    (JFET + ["--idss", "8mA", "--vp", "2", "-c", "ce"], "config: "),
+    (["--device", "nmos", "--id", "1mA", "--vds", "5"], "kn_min: missing"),
+    (["--device", "nmos", "--id", "1mA", "--vds", "5", "--kn", "4m", "--vov-min", "0.2", "--vov-max", "0.3"],
+     "kn_min: "),
+    (["--device", "pmos", "--id", "1mA", "--vds", "5", "--idss-min", "1mA", "--idss-max", "2mA"], "idss_min: "),
+    (["--device", "nmos", "--vds", "5", "--kn", "4m"], "id: missing"),
+    (["--ic", "1mA", "--vce", "5", "--beta-min", "80", "--beta-max", "200", "--idss-min", "1mA"], "idss_min: a FET"),
+    (["--ic", "1mA", "--vce", "5", "--beta-min", "80", "--beta-max", "200", "--id", "1mA"], "id: "),
+    (JFET + ["--idss", "8mA", "--vp", "2", "--spec", "ic>=1mA"], "spec: 'ic' is not a result"),
+])
+def test_fet_spread_errors_are_one_line(run, args, prefix):
+    assert_one_line_error(run, "spread", *args, "-n", "100", "--seed", "1", prefix=prefix)
+
+
+def test_fet_spread_power_rating(run):
+    # ID VDS is the same for every sample: 10 mA * 10 V = 100 mW against pmax = 50 mW
+    code, out, err = run("spread", "--device", "njfet", "--id", "10mA", "--vds", "10", "--idss", "20mA", "--vp", "2",
+                         "--pmax", "50mW", "-n", "100", "--seed", "1", "--json")
+    assert code == 0 and err.startswith("devmodels: warning: power:") and "100 mW" in err
+    json.loads(out)
+    code, out, err = run("spread", "--device", "njfet", "--id", "10mA", "--vds", "10", "--idss", "20mA", "--vp", "2",
+                         "--pmax", "200mW", "-n", "100", "--seed", "1", "--json")
+    assert code == 0 and err == ""
+
+
+def test_plot_keeps_the_values_above_the_streaming_limit(run, monkeypatch, tmp_path):
+    # Above KEEP_VALUES_MAX samples the values are streamed (bounded memory) unless --plot needs them.
+    import devmodels.spread as spread_mod
+
+    monkeypatch.setattr(spread_mod, "KEEP_VALUES_MAX", 100)
+    args = ("spread", EXAMPLE, "-n", "500", "--seed", "2", "--json")
+    code, out, err = run(*args)
+    assert code == 0 and json.loads(out)["stats_accuracy"]["method"] == "streaming"
+    png = tmp_path / "k.png"
+    code, out, err = run(*args, "--plot", str(png))
+    assert code == 0, err
+    assert json.loads(out)["stats_accuracy"]["method"] == "exact" and png.stat().st_size > 0

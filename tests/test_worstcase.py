@@ -239,3 +239,84 @@ def test_streaming_summary_bad_input():
         s.quantile("a", 1.5)
     with pytest.raises(InputError, match="'b' is not summarised"):
         s.quantile("b", 0.5)
+
+
+# --- FET setups, fixed limits, the FET results' units ------------------------------------------
+
+from devmodels.spread import FET_RESULTS, FetSpreadRanges, FetSpreadSetup  # noqa: E402
+
+FET_SETUP = FetSpreadSetup(config="cs", freq=1e6, rs=50.0, rl=5e3, device="njfet", id=1e-3, vds=5.0, cgs=3e-12,
+                           cgd=1e-12, rdeg=100.0)
+FET_RANGES = FetSpreadRanges(idss_min=4e-3, idss_max=12e-3, vp_min=1.0, vp_max=3.0, lambda_min=0.01,
+                             lambda_max=0.02, tol=0.05)
+
+
+def test_box_limits_are_the_setups_own_limits():
+    assert box_limits(FET_SETUP, FET_RANGES) == FET_SETUP.limits(FET_RANGES)
+    assert set(box_limits(FET_SETUP, FET_RANGES)) == {"idss", "vp", "lambda", "rdeg"}
+    assert box_limits(SETUP, RANGES) == SETUP.limits(RANGES)
+
+
+def test_fet_worst_case_against_a_loop_over_the_vertices():
+    w = worst_case(FET_SETUP, FET_RANGES)
+    assert set(w) == set(FET_RESULTS)
+    lim = FET_SETUP.limits(FET_RANGES)
+    names = list(lim)
+    vals = {r: [] for r in ("av", "gm", "zout")}
+    for corner in itertools.product(*(lim[n] for n in names)):
+        pt = {n: np.array([v]) for n, v in zip(names, corner)}
+        res = FET_SETUP.evaluate_points(pt)
+        for r in vals:
+            vals[r].append(float(res[r][0]))
+    for r, v in vals.items():
+        assert w[r]["worst_min"] <= min(v) * (1 + 1e-12) and w[r]["worst_max"] >= max(v) * (1 - 1e-12)
+    # gm = (2/|VP|) sqrt(ID IDSS): monotonic, extremes at vertices, by hand
+    assert w["gm"]["method"] == "vertices"
+    assert w["gm"]["worst_max"] == pytest.approx(2.0 * math.sqrt(1e-3 * 12e-3), rel=1e-12)
+    assert w["gm"]["worst_min_at"]["idss"] == "low" and w["gm"]["worst_min_at"]["vp"] == "high"
+    # no small-signal input impedance (no gate resistor to ground): no worst value, not a crash
+    assert w["ai"]["worst_min"] is None or math.isfinite(w["ai"]["worst_min"])
+
+
+def test_fet_worst_case_uses_the_search_where_a_result_is_not_monotonic(monkeypatch):
+    # A result with an interior maximum (in vp) must leave 'vertices' for the search, which then
+    # finds the maximum inside the box: the evaluation is the setup's own (evaluate_points).
+    def bump(points):
+        out = FetSpreadSetup.evaluate_points(FET_SETUP, points)
+        out["gm"] = 1.0 - (np.asarray(points["vp"]) - 2.2) ** 2
+        return out
+
+    class Bumpy(FetSpreadSetup):
+        __slots__ = ()
+
+        def evaluate_points(self, points):
+            return bump(points)
+
+    setup = Bumpy(**{f: getattr(FET_SETUP, f) for f in FetSpreadSetup.__dataclass_fields__})
+    w = worst_case(setup, FET_RANGES, results=["gm"])
+    assert w["gm"]["method"] == "vertices+search"
+    assert w["gm"]["worst_max"] == pytest.approx(1.0, abs=1e-9)
+    assert w["gm"]["worst_max_at"]["vp"] == pytest.approx(2.2, rel=1e-6)
+
+
+def test_every_limit_fixed_is_one_point():
+    v = vertices({"a": (1.0, 1.0), "b": (2.0, 2.0)})
+    assert {k: x.tolist() for k, x in v.items()} == {"a": [1.0], "b": [2.0]}
+    fixed = FetSpreadRanges(idss_min=8e-3, idss_max=8e-3, vp_min=2.0, vp_max=2.0)
+    w = worst_case(FET_SETUP, fixed)
+    at = FET_SETUP.evaluate_points({"idss": np.array([8e-3]), "vp": np.array([2.0])})
+    assert w["av"]["worst_min"] == w["av"]["worst_max"] == pytest.approx(float(at["av"][0]), rel=1e-15)
+    assert w["av"]["worst_min_at"] == {"idss": 8e-3, "vp": 2.0}
+    fixed_bjt = SpreadRanges(beta_min=100.0, beta_max=100.0)
+    wb = worst_case(SpreadSetup(ic=1e-3, vce=5.0), fixed_bjt)
+    assert wb["zin"]["worst_min"] == wb["zin"]["worst_max"]
+
+
+def test_specs_on_gm_and_ro_take_their_units():
+    assert parse_spec("gm>=5mS", results=FET_RESULTS) == ("gm", ">=", pytest.approx(5e-3))
+    assert parse_spec("ro <= 100k", results=FET_RESULTS) == ("ro", "<=", pytest.approx(1e5))
+    assert parse_spec("ro>=47kohm", results=FET_RESULTS)[2] == pytest.approx(4.7e4)
+    with pytest.raises(InputError, match="^spec gm: "):
+        parse_spec("gm>=5V", results=FET_RESULTS)
+    with pytest.raises(InputError, match="^spec ro: "):
+        parse_spec("ro>=5A", results=FET_RESULTS)

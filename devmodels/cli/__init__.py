@@ -20,6 +20,7 @@ from . import biasnet  # noqa: F401  (bias, spread)
 from . import fetchain  # noqa: F401  (cascade, connect, formula)
 from . import noisecmd  # noqa: F401  (noise)
 from . import designcmd  # noqa: F401  (design)
+from . import extractcmd  # noqa: F401  (extract)
 
 __all__ = ["app", "main"]
 

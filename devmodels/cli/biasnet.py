@@ -6,6 +6,7 @@ A bias file with a ``[network]`` table is solved for every bias-point command by
 
 from __future__ import annotations
 
+import functools
 import math
 import sys
 from pathlib import Path
@@ -15,10 +16,10 @@ import typer
 
 from ..exceptions import InputError
 from ..schema import MAX_SAMPLES
-from ..units import format_si, parse_count, shown
+from ..units import check_bounds, format_si, parse_count, parse_quantity, shown
 from .app import command
 from .inputs import BIAS_KEYS, SPREAD_KEYS, Inputs, bias_options, check_config, parse_freq, parse_z0, terminations
-from .options import JsonOpt, OneFreqOpt, RlOpt, RsOpt, Z0Opt
+from .options import ConfigOpt, JsonOpt, OneFreqOpt, RlOpt, RsOpt, Z0Opt
 from .render import emit_json, note, print_table, warn, zjson, zstr
 
 #: Runs with more samples than this show a progress bar (on a terminal, never with --json).
@@ -94,11 +95,45 @@ def _relations(kind: str, region: str) -> dict[str, str]:
 
 # ------------------------------------------------------------------------- spread command
 
+def _spread_keys(k) -> bool:
+    """spread: the bipolar keys of :data:`SPREAD_KEYS` and a FET's fixed values (ID, VDS, the model)."""
+    return SPREAD_KEYS(k) or (k.table is None and k.panel == "fet")
+
+
+#: FET limits of the spread: name -> (schema key whose unit and range the limit takes, what it is).
+_FET_LIMITS: dict[str, tuple[str, str]] = {
+    "idss": ("idss", "JFET drain current at VGS = 0, A"),
+    "vp": ("vp", "JFET pinch-off voltage, V (sign optional)"),
+    "kn": ("kn", "MOSFET transconductance parameter, A/V^2"),
+    "vov": ("vov", "MOSFET overdrive voltage at the bias current, V"),
+    "lambda": ("lambda", "channel-length modulation, 1/V"),
+}
+
+
+def _limit_option(name: str, end: str):
+    kid, what = _FET_LIMITS[name]
+    from ..schema import keys
+    from ..units import UNITS
+
+    metavar = UNITS[keys()[kid].unit].metavar
+    return Annotated[Optional[str], typer.Option(
+        f"--{name}-{end}", help=f"FET spread: {'lowest' if end == 'min' else 'highest'} {what} "
+                                f"(with --{name}-{'max' if end == 'min' else 'min'}; equal for a fixed value).",
+        rich_help_panel="FET spread limits", show_default=False, metavar=metavar)]
+
+
+SpecOpt = Annotated[Optional[list[str]], typer.Option(
+    "--spec", help="A specification RESULT>=VALUE or RESULT<=VALUE (also > and <; units allowed, e.g. "
+                   "av>=40, zin>=1k, gt_db>=20dB); repeat for more. Adds the yield: the fraction of samples "
+                   "meeting them all, and whether the worst case over the limits meets them.",
+    rich_help_panel="Spread limits", show_default=False, metavar="SPEC")]
+
+
 @command("spread")
-@bias_options(SPREAD_KEYS)
+@bias_options(_spread_keys)
 def spread_cmd(
     bias_in: Inputs,
-    config: Annotated[str, typer.Option("--config", "-c", help="Configuration: ce, cb, cc.", metavar="CONFIG")] = "ce",
+    config: ConfigOpt = None,
     freq: OneFreqOpt = "1kHz",
     rs: RsOpt = "50",
     rl: RlOpt = "1k",
@@ -109,11 +144,23 @@ def spread_cmd(
     seed: Annotated[Optional[str], typer.Option("--seed", help="Seed of the random draws (default: a new one, "
                                                 "printed so the run can be repeated).", metavar="INTEGER",
                                                 rich_help_panel="Spread limits", show_default=False)] = None,
+    spec: SpecOpt = None,
+    idss_min: _limit_option("idss", "min") = None,
+    idss_max: _limit_option("idss", "max") = None,
+    vp_min: _limit_option("vp", "min") = None,
+    vp_max: _limit_option("vp", "max") = None,
+    kn_min: _limit_option("kn", "min") = None,
+    kn_max: _limit_option("kn", "max") = None,
+    vov_min: _limit_option("vov", "min") = None,
+    vov_max: _limit_option("vov", "max") = None,
+    lambda_min: _limit_option("lambda", "min") = None,
+    lambda_max: _limit_option("lambda", "max") = None,
     plot: Annotated[Optional[Path], typer.Option("--plot", help="Draw histograms into FILE.png.",
                                                  show_default=False, metavar="FILE")] = None,
     as_json: JsonOpt = False,
 ) -> None:
-    """Terminated analysis over datasheet limits: beta, temperature and resistor tolerance."""
+    """Terminated analysis over datasheet limits (beta, temperature and resistor tolerance; a FET's IDSS
+    and VP, or kn or Vov, and lambda), with the worst case over the limits and the yield against specs."""
     from ..spread import run_spread
 
     if plot is not None:
@@ -125,8 +172,25 @@ def spread_cmd(
     n = parse_count(samples, "samples", MAX_SAMPLES)
     seed_v = None if seed is None else parse_count(seed, "seed", 2 ** 63 - 1, minimum=0)
     zs, zl = terminations(rs, rl)
-    setup, ranges = bias_in.spread(check_config(config), parse_freq(freq), zs, zl, parse_z0(z0), n, seed_v)
-    result = _run_with_progress(run_spread, setup, ranges, show=not as_json and n > PROGRESS_SAMPLES)
+    texts = {f"{name}_{end}": v for name, end, v in (
+        ("idss", "min", idss_min), ("idss", "max", idss_max), ("vp", "min", vp_min), ("vp", "max", vp_max),
+        ("kn", "min", kn_min), ("kn", "max", kn_max), ("vov", "min", vov_min), ("vov", "max", vov_max),
+        ("lambda", "min", lambda_min), ("lambda", "max", lambda_max)) if v is not None}
+    if bias_in.family == "bipolar":
+        if texts:
+            first = next(iter(texts))
+            raise InputError(f"{first}: a FET limit, but the device is {bias_in.device}"
+                             f"{' (the default)' if 'device' not in bias_in.values else ''}; give --device nmos, "
+                             "pmos, njfet or pjfet for a FET spread")
+        setup, ranges = bias_in.spread(check_config(config or "ce"), parse_freq(freq), zs, zl, parse_z0(z0), n,
+                                       seed_v)
+    else:
+        setup, ranges = _fet_spread(bias_in, texts, check_config(config or "cs"), parse_freq(freq), zs, zl,
+                                    parse_z0(z0), n, seed_v)
+    # --plot needs every sample's value; otherwise the library keeps them up to its limit and
+    # streams beyond it (bounded memory)
+    run = functools.partial(run_spread, specs=tuple(spec or ()), keep_values=True if plot is not None else None)
+    result = _run_with_progress(run, setup, ranges, show=not as_json and n > PROGRESS_SAMPLES)
     for w in result.warnings:
         warn(w)
     if plot is not None:
@@ -141,6 +205,84 @@ def spread_cmd(
         note(f"wrote {plot}")
 
 
+def _fet_limit(name: str, text: str) -> float:
+    """One FET limit from its option text, in the unit and range of the schema key it limits."""
+    from ..schema import keys
+
+    k = keys()[_FET_LIMITS[name.rsplit("_", 1)[0]][0]]
+    v = parse_quantity(text, k.unit, name)
+    return check_bounds(name, v, k.unit, k.bounds, text)
+
+
+def _fet_spread(bias_in: Inputs, texts: dict[str, str], config: str, freq: float, zs, zl, z0, n: int, seed):
+    """The :class:`~devmodels.spread.FetSpreadSetup` and :class:`~devmodels.spread.FetSpreadRanges` of the
+    inputs: ID and VDS fixed, each limit from ``--NAME-min``/``--NAME-max`` or, without them, the fixed
+    value ``--NAME`` (or the file's key) as a collapsed range."""
+    from ..constants import FET_CONFIGS
+    from ..spread import FetSpreadRanges, FetSpreadSetup
+    from ..validate import p_type_magnitudes
+
+    bias_in._check_family()
+    dev, fam = bias_in.device, bias_in.family
+    for kid in ("beta_min", "beta_max", "beta_typ", "temp_min", "temp_max"):
+        if kid in bias_in.values:
+            raise InputError(f"{kid}: a bipolar limit, not used for a {dev} (a FET spread takes --idss-min/"
+                             "--idss-max and --vp-min/--vp-max, or --kn-min/--kn-max or --vov-min/--vov-max)")
+    if bias_in.has_network():
+        raise InputError(f"network: the FET spread analyses the transistor stage (with rdeg, rfb) at a fixed ID "
+                         f"and VDS; remove the [network] table for a {dev}")
+    if config not in FET_CONFIGS:
+        raise InputError(f"config: a FET spread takes {', '.join(FET_CONFIGS)}, got {config!r}")
+    i_d = bias_in.require("id", "drain current in A, e.g. 2mA")
+    vds = bias_in.require("vds", "drain-source voltage in V, e.g. 5V")
+    i_d, vds = p_type_magnitudes(("id", "vds"), dev, i_d, vds, dev in ("pmos", "pjfet"))
+    own = ("idss", "vp") if fam == "jfet" else ("kn", "vov")
+    other = ("kn", "vov") if fam == "jfet" else ("idss", "vp")
+    for name in other:
+        for end in ("min", "max"):
+            if f"{name}_{end}" in texts:
+                raise InputError(f"{name}_{end}: a {'MOSFET' if fam == 'jfet' else 'JFET'} limit; a {dev} is "
+                                 f"described by {' and '.join(own) if fam == 'jfet' else 'kn or vov'}")
+    limits: dict = {}
+    for name in own + ("lambda",):
+        lo, hi = texts.get(f"{name}_min"), texts.get(f"{name}_max")
+        if (lo is None) != (hi is None):
+            missing = f"{name}_max" if hi is None else f"{name}_min"
+            raise InputError(f"{missing}: missing; give both --{name}-min and --{name}-max "
+                             f"(equal for a fixed value, or --{name} alone)")
+        if lo is not None:
+            limits[name] = (_fet_limit(f"{name}_min", lo), _fet_limit(f"{name}_max", hi))
+        elif bias_in.get(name) is not None:
+            v = abs(bias_in.get(name)) if name == "vp" else bias_in.get(name)
+            limits[name] = (v, v)
+    if fam == "jfet":
+        for name in own:
+            if name not in limits:
+                raise InputError(f"{name}_min: missing; a {dev} spread needs --{name}-min and --{name}-max "
+                                 f"(or a fixed --{name})")
+    else:
+        if "kn" in limits and "vov" in limits:
+            raise InputError(f"kn_min: give the limits of kn or of vov for a {dev} spread, not both")
+        if "kn" not in limits and "vov" not in limits:
+            raise InputError(f"kn_min: missing; a {dev} spread needs --kn-min and --kn-max or --vov-min and "
+                             "--vov-max (or a fixed --kn or --vov)")
+    kw = {f"{name}_{end}": v for name, (lo, hi) in limits.items() for end, v in (("min", lo), ("max", hi))}
+    ranges = FetSpreadRanges(**kw, tol=bias_in.get("tol", 0.0), samples=n, seed=seed)
+    setup = FetSpreadSetup(
+        config=config, freq=freq, rs=zs, rl=zl, device=dev, id=i_d, vds=vds,
+        gamma=None if fam == "jfet" else bias_in.get("gamma"), vsb=abs(bias_in.get("vsb", 0.0)),
+        two_phi_f=bias_in.get("two_phi_f", 0.7), cgs=bias_in.get("cgs", 0.0), cgd=bias_in.get("cgd", 0.0),
+        csb=bias_in.get("csb", 0.0), cdb=bias_in.get("cdb", 0.0), rg=bias_in.get("rg", 0.0),
+        rdeg=bias_in.get("rdeg"), rfb=bias_in.get("rfb"), z0=z0)
+    setup.limits(ranges)  # the checks of the limits against ID and VDS, before any sample is drawn
+    from ..dcbias import rating_warnings
+
+    pmax, _ = bias_in.ratings()  # the dissipation ID VDS is the same for every sample
+    for w in rating_warnings(i_d * vds, 0.0, 0.0, pmax=pmax, vceo=None):
+        warn(w)
+    return setup, ranges
+
+
 def _run_with_progress(run: Callable, setup, ranges, show: bool):
     if not (show and sys.stderr.isatty()):
         return run(setup, ranges)
@@ -153,24 +295,47 @@ def _run_with_progress(run: Callable, setup, ranges, show: bool):
         return run(setup, ranges, progress=lambda done, total: bar.update(task, completed=done))
 
 
-#: Results in the order shown, with their unit for tables.
+#: Results in the order shown, with their unit and label for tables (those of the setup's results).
 _SHOWN: tuple[tuple[str, str, str], ...] = (
     ("av", "", "|V2/V1|"), ("avs", "", "|V2/Vs|"), ("ai", "", "|-I2/I1|"), ("zin", "Ω", "|Zin|"),
     ("zout", "Ω", "|Zout|"), ("gt_db", "dB", "GT"), ("k", "", "Rollett K"), ("ic", "A", "|IC|"),
-    ("vce", "V", "|VCE|"), ("power", "W", "P"))
+    ("vce", "V", "|VCE|"), ("power", "W", "P"), ("gm", "S", "gm"), ("ro", "Ω", "ro"))
+
+#: How the worst case was found: method -> (mark in the table, footnote).
+_METHODS: dict[str, tuple[str, str]] = {
+    "vertices": ("", "at a vertex of the box of limits (monotonic along every edge)"),
+    "vertices+search": ("*", "found by a local search inside the box (not monotonic along some edge): a local "
+                             "extreme, not proven global"),
+    "vertices-only": ("°", "the extremes over the vertices of the box only (no monotonicity check)"),
+}
+
+
+def _ranges_json(setup, r) -> dict[str, Any]:
+    from ..spread import FetSpreadRanges
+
+    if isinstance(r, FetSpreadRanges):
+        lim = setup.limits(r)
+        out: dict[str, Any] = {}
+        for name in ("idss", "vp", "kn", "vov", "lambda"):
+            if name in lim:
+                out[f"{name}_min"], out[f"{name}_max"] = lim[name]
+        return out | {"tol": r.tol * 100}
+    return {"beta_min": r.beta_min, "beta_max": r.beta_max, "beta_typ": r.beta_typ,
+            "temp_min": r.temp_min, "temp_max": r.temp_max, "tol": r.tol * 100}
 
 
 def _spread_json(result, plot: Path | None) -> dict[str, Any]:
-    s, r = result.setup, result.ranges
-    out: dict[str, Any] = {"samples": result.samples, "seed": result.seed}
-    out.update(result.stats)
+    from ..spread import FetSpreadSetup
+
+    s = result.setup
+    out = result.as_dict()
+    fet = isinstance(s, FetSpreadSetup)
     out.update({
-        "corners": result.corners, "regions": result.regions, "config": s.config, "freq": s.freq,
-        "rs": zjson(complex(s.rs)), "rl": zjson(complex(s.rl)),
-        "network": None if s.network is None else s.network.kind,
-        "ranges": {"beta_min": r.beta_min, "beta_max": r.beta_max, "beta_typ": r.beta_typ,
-                   "temp_min": r.temp_min, "temp_max": r.temp_max, "tol": r.tol * 100},
-        "warnings": list(result.warnings), "plot": None if plot is None else str(plot)})
+        "config": s.config, "freq": s.freq, "rs": zjson(complex(s.rs)), "rl": zjson(complex(s.rl)),
+        "network": None if fet or s.network is None else s.network.kind, "device": s.device,
+        "ranges": _ranges_json(s, result.ranges), "plot": None if plot is None else str(plot)})
+    if fet:
+        out.update({"id": s.id, "vds": s.vds})
     return out
 
 
@@ -184,20 +349,67 @@ def _fmt(v, unit: str) -> str:
     return format_si(v, unit)
 
 
+def _pct(p: float) -> str:
+    return f"{p * 100:.4g} %"
+
+
+def _yield_text(y: dict, samples: int) -> str:
+    verdict = {True: "meets them", False: "fails", None: "not computed"}[y["worst_case_pass"]]
+    lo, hi = y["ci95"]
+    most = (f"; fails most often: {y['most_failed']} ({y['failed_by'][y['most_failed']]:,} of {samples:,} samples)"
+            if y.get("most_failed") else "")
+    return (f"Yield: {_pct(y['fraction'])} of the samples meet {', '.join(y['specs'])} (95 % interval "
+            f"{_pct(lo)} .. {_pct(hi)}){most}. Worst case over the limits: {verdict}.")
+
+
 def _print_spread(result) -> None:
+    from ..spread import FetSpreadSetup
+
     s, r = result.setup, result.ranges
-    dist = "uniform" if r.beta_typ is None else f"triangular, typ {r.beta_typ:g}"
-    title = (f"Spread of a {s.config.upper()} stage at {format_si(s.freq, 'Hz')}, Rs = {zstr(complex(s.rs))}, "
-             f"RL = {zstr(complex(s.rl))}: {result.samples:,} samples, seed {result.seed}")
+    fet = isinstance(s, FetSpreadSetup)
+    where = (f"{s.device}, ID = {format_si(s.id, 'A')}, VDS = {format_si(s.vds, 'V')}" if fet else
+             (f"{s.network.kind} bias" if s.network is not None else
+              f"IC = {format_si(s.ic, 'A')}, VCE = {format_si(s.vce, 'V')}"))
+    title = (f"Spread of a {s.config.upper()} stage ({where}) at {format_si(s.freq, 'Hz')}, Rs = "
+             f"{zstr(complex(s.rs))}, RL = {zstr(complex(s.rl))}: {result.samples:,} samples, seed {result.seed}")
+    worst = result.worst or {}
+    used: set[str] = set()
     rows = []
     for key, unit, label in _SHOWN:
+        if key not in result.stats:
+            continue
         st = result.stats[key]
         vals = [_fmt(st[q] if st else None, unit) for q in ("min", "p5", "p50", "p95", "max")]
-        rows.append([label] + vals + [_fmt(result.corners["min"][key], unit), _fmt(result.corners["max"][key], unit)])
-    c = result.corners
-    caption = (f"beta {r.beta_min:g}..{r.beta_max:g} at 300 K ({dist}), T {r.temp_min:.2f}..{r.temp_max:.2f} K, "
-               f"resistors ±{r.tol * 100:g} % (uniform). Corner min: every limit low (beta {c['min']['beta']:g}, "
-               f"T {c['min']['temp']:.2f} K, resistors -{r.tol * 100:g} %); corner max: every limit high. "
-               f"Samples per region: " + ", ".join(f"{k} {v:,}" for k, v in result.regions.items())
-               + ". Statistics over samples in the active region.")
-    print_table(title, ["result", "min", "p5", "p50", "p95", "max", "corner min", "corner max"], rows, caption)
+        w = worst.get(key)
+        if w is None:
+            wv = ["", ""]
+        else:
+            mark = _METHODS.get(w["method"], ("?", w["method"]))[0]
+            used.add(w["method"])
+            wv = [_fmt(w["worst_min"], unit) + mark, _fmt(w["worst_max"], unit) + mark]
+        rows.append([label] + vals + wv)
+    if fet:
+        lim = s.limits(r)
+        unit = {"idss": "A", "vp": "V", "kn": "A/V²", "vov": "V", "lambda": "1/V"}
+        def val(n, v):
+            return f"{v:g} 1/V" if n == "lambda" else format_si(v, unit[n])
+
+        parts = [f"{n} {val(n, lo)}" + ("" if lo == hi else f"..{val(n, hi)}") for n, (lo, hi) in lim.items()
+                 if n in unit]
+        limits_text = ", ".join(parts) + " (uniform)"
+        if r.tol > 0 and s.resistors:
+            limits_text += f", {', '.join(s.resistors)} ±{r.tol * 100:g} % (uniform)"
+    else:
+        dist = "uniform" if r.beta_typ is None else f"triangular, typ {r.beta_typ:g}"
+        limits_text = (f"beta {r.beta_min:g}..{r.beta_max:g} at {s.t_ref:.2f} K ({dist}), "
+                       f"T {r.temp_min:.2f}..{r.temp_max:.2f} K, resistors ±{r.tol * 100:g} % (uniform)")
+    foot = " ".join(f"Worst {'values' if not mark else f'values marked {mark}'}: {text}."
+                    for m, (mark, text) in _METHODS.items() if m in used)
+    caption = (f"Limits: {limits_text}. min .. max and the percentiles are over the samples; worst min / worst "
+               f"max are the extremes over the box of limits (worst_min_at / worst_max_at in --json). {foot}")
+    if not fet:
+        caption += (" Samples per region: " + ", ".join(f"{k} {v:,}" for k, v in result.regions.items())
+                    + ". Statistics over samples in the active region.")
+    if result.yield_ is not None:
+        caption += " " + _yield_text(result.yield_, result.samples)
+    print_table(title, ["result", "min", "p5", "p50", "p95", "max", "worst min", "worst max"], rows, caption)

@@ -1,0 +1,271 @@
+"""Command ``extract``: hybrid-pi (or FET) elements fitted to a measured two-port Touchstone file.
+
+The library reads the file and fits (:func:`devmodels.extract.extract`), checks the fitted gm
+against a collector current (:func:`devmodels.extract.bias_consistency`), writes the bias file's
+text (:func:`devmodels.extract.bias_toml`) and draws the fit (:func:`devmodels.extract.plot_fit`);
+this module reads the options, checks the destinations before the fit, writes the file through
+the atomic writer and shows the results.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+from typing import Annotated, Optional
+
+import typer
+
+from ..exceptions import InputError
+from ..units import Bounds, check_bounds, format_si, parse_quantity, shown, temperature_warning
+from .app import command
+from .inputs import check_config
+from .options import JsonOpt, PlotOpt
+from .render import emit_json, note, print_table, warn
+
+#: Configuration of the data without --config.
+DEFAULT_CONFIG = "ce"
+#: Unit symbol of each element in tables.
+_SYMBOL = {"S": "S", "Ohm": "Ω", "F": "F"}
+
+_FileArg = Annotated[Path, typer.Argument(
+    help="A two-port Touchstone file (.s2p, .ts) of the device, measured in --config.", show_default=False,
+    metavar="FILE")]
+_ConfigOpt = Annotated[Optional[str], typer.Option(
+    "--config", "-c", help="Configuration the device was measured in: ce, cb, cc (hybrid-pi) or cs, cg, cd (FET) "
+                            "(default: ce).", metavar="CONFIG", show_default=False)]
+_ParasiticsOpt = Annotated[Optional[str], typer.Option(
+    "--parasitics", help="Optional elements to fit as well, comma separated: rex, rcx, c_pad_in, c_pad_out "
+                         "(a FET: rsx, rdx, c_pad_in, c_pad_out) (default: none).",
+    show_default=False, metavar="NAME[,NAME]")]
+_FixOpt = Annotated[Optional[list[str]], typer.Option(
+    "--fix", help="Hold an element at a value instead of fitting it, NAME=VALUE with its unit (gm=40mS, "
+                  "rb=50, c_mu=1.2pF); repeat for more.", show_default=False, metavar="NAME=VALUE")]
+_IcOpt = Annotated[Optional[str], typer.Option(
+    "--ic", help="Collector current of the measurement, A: compares the fitted gm with IC/VT (ideality, "
+                 "excess emitter resistance).", show_default=False,
+    metavar="AMPERE")]
+_TempOpt = Annotated[Optional[str], typer.Option(
+    "--temp", help="Temperature of the measurement, K (or 27C) (default 300 K): VT of the --ic check and "
+                   "of the bias file.", show_default=False, metavar="KELVIN")]
+_VceOpt = Annotated[Optional[str], typer.Option(
+    "--vce", help="Collector-emitter voltage of the measurement, V (required with --out: the data do not "
+                  "hold it).", show_default=False, metavar="VOLT")]
+_DeviceOpt = Annotated[str, typer.Option(
+    "--device", help="Polarity written to the bias file: npn or pnp.", metavar="npn|pnp")]
+_OutOpt = Annotated[Optional[Path], typer.Option(
+    "--out", "-o", help="Write the fitted model as a bias file FILE.toml (readable by model, gain, noise, ...); "
+                        "needs --vce.", show_default=False, metavar="FILE.toml")]
+
+
+def _family_elements(config: str) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """The base elements and the optional parasitics the library fits for ``config``."""
+    from ..constants import FET_CONFIGS
+    from ..extract import BASE_ELEMENTS, FET_BASE_ELEMENTS, FET_PARASITICS, PARASITICS
+
+    return (FET_BASE_ELEMENTS, FET_PARASITICS) if config in FET_CONFIGS else (BASE_ELEMENTS, PARASITICS)
+
+
+def _unit(name: str) -> str:
+    """Unit key of an element: gm in S, capacitances in F, resistances in ohm."""
+    if name == "gm":
+        return "S"
+    return "F" if name.startswith("c") else "Ohm"
+
+
+def _parasitics(text: str | None, config: str) -> tuple[str, ...]:
+    if text is None:
+        return ()
+    _, allowed = _family_elements(config)
+    out: list[str] = []
+    for part in text.split(","):
+        name = part.strip().lower()
+        if not name:
+            raise InputError(f"parasitics: expected names separated by commas (some of {', '.join(allowed)}), "
+                             f"got {shown(text)}")
+        if name not in allowed:
+            raise InputError(f"parasitics: unknown element {shown(part.strip())} for a {config} fit; expected "
+                             f"some of {', '.join(allowed)}")
+        if name not in out:
+            out.append(name)
+    return tuple(out)
+
+
+def _fixed(values: list[str] | None, config: str, parasitics: tuple[str, ...]) -> dict[str, float]:
+    """``NAME=VALUE`` items as element values in SI units (within the fit's bounds)."""
+    from ..extract import BOUNDS
+
+    base, allowed = _family_elements(config)
+    names = base + parasitics
+    out: dict[str, float] = {}
+    for item in values or ():
+        name, sep, value = str(item).partition("=")
+        name = name.strip().lower()
+        if not sep or not name or not value.strip():
+            raise InputError(f"fix: expected NAME=VALUE (e.g. gm=40mS), got {shown(item)}")
+        if name not in names:
+            hint = "; add it to --parasitics to hold it" if name in allowed else ""
+            raise InputError(f"fix: {shown(name)} is not an element of the {config} fit; expected one of "
+                             f"{', '.join(names)}{hint}")
+        if name in out:
+            raise InputError(f"fix: {name} is given twice")
+        unit = _unit(name)
+        v = parse_quantity(value, unit, f"fix {name}")
+        if not (math.isfinite(v) and v > 0):
+            raise InputError(f"fix {name}: expected a value > 0 {_SYMBOL[unit]}, got {shown(value.strip())}")
+        lo, hi = BOUNDS[name]
+        out[name] = check_bounds(f"fix {name}", v, unit, Bounds(lo, hi, zero=False), value.strip())
+    if len(out) == len(names):
+        raise InputError("fix: every element is held; leave at least one to fit")
+    return out
+
+
+def _key(name: str, text: str | None):
+    """An option parsed by the bias schema's key of the same name (its unit and range)."""
+    if text is None:
+        return None
+    from ..schema import keys
+
+    return keys()[name].parse(text)
+
+
+def _nonzero(name: str, value: float | None, text: str | None, what: str) -> float | None:
+    if value is None:
+        return None
+    if not value:
+        raise InputError(f"{name}: expected {what} other than 0, got {shown(text)}")
+    return abs(value)
+
+
+@command("extract")
+def extract_cmd(file: _FileArg, config: _ConfigOpt = None, parasitics: _ParasiticsOpt = None, fix: _FixOpt = None,
+                ic: _IcOpt = None, temp: _TempOpt = None, vce: _VceOpt = None, device: _DeviceOpt = "npn",
+                out: _OutOpt = None, plot: PlotOpt = None, as_json: JsonOpt = False) -> None:
+    """Fit the small-signal model to a measured two-port: each element with its standard uncertainty.
+
+    ce, cb, cc data give the hybrid-pi (gm, r_pi, c_pi, c_mu, rb, ro); cs, cg, cd data a FET (gm, cgs, cgd, ro, rg).
+
+    The fit starts from direct estimates at the ends of the band and weighs every S parameter by its own magnitude.
+
+    Warnings name the elements the data do not determine.
+    """
+    from ..constants import FET_CONFIGS
+
+    cfg = check_config(config) if config is not None else DEFAULT_CONFIG
+    fet = cfg in FET_CONFIGS
+    extra = _parasitics(parasitics, cfg)
+    fixed = _fixed(fix, cfg, extra)
+    i_c = _nonzero("ic", _key("ic", ic), ic, "a collector current")
+    v_ce = _nonzero("vce", _key("vce", vce), vce, "a collector-emitter voltage")
+    kelvin = _key("temp", temp) if temp is not None else 300.0
+    dev = _key("device", device)
+    if dev not in ("npn", "pnp"):
+        raise InputError(f"device: the bias file of a hybrid-pi fit takes npn or pnp, got {dev}")
+    if fet and i_c is not None:
+        raise InputError(f"ic: the gm check against IC/VT is for a bipolar fit (ce, cb, cc), not {cfg}")
+    if out is not None:
+        from ..fileio import check_destination
+
+        if fet:
+            raise InputError(f"out: a bias file is written for a bipolar fit (ce, cb, cc), not {cfg} (gm alone "
+                             "does not give ID and Vov)")
+        if out.suffix.lower() != ".toml":
+            raise InputError(f"out: expected a bias file name ending in .toml, got {shown(str(out))}")
+        if v_ce is None:
+            raise InputError("vce: missing; --out writes a bias file, which needs the collector-emitter voltage "
+                             "of the measurement (e.g. --vce 5V)")
+        check_destination(out, option="out")
+    elif v_ce is not None:
+        warn("vce: used only for the bias file (--out); ignored")
+    if plot is not None:
+        from ..fileio import check_destination
+
+        if plot.suffix.lower() not in (".png", ".svg"):
+            raise InputError(f"plot: expected a file name ending in .png or .svg, got {shown(str(plot))}")
+        check_destination(plot, option="plot")
+    if temp is not None:
+        tw = temperature_warning("temp", temp, kelvin)
+        if tw:
+            warn(tw)
+
+    result, messages = _fit(file, cfg, extra, fixed)
+    check = None
+    if i_c is not None:
+        from ..extract import bias_consistency
+
+        check = bias_consistency(result.elements["gm"], i_c, kelvin)
+    if out is not None:
+        from ..extract import bias_toml
+        from ..fileio import atomic_write_text
+
+        atomic_write_text(out, bias_toml(result, v_ce, temp=kelvin, device=dev), option="out")
+    if plot is not None:
+        from ..extract import plot_fit
+
+        plot_fit(result, plot, option="plot")
+    for m in messages:
+        warn(m)
+    if as_json:
+        obj = result.as_dict()
+        if check is not None:
+            obj["consistency"] = dict(check, ic=i_c, temp=kelvin)
+        emit_json(obj)
+    else:
+        _print_result(result, file, check, i_c, kelvin)
+    if out is not None:
+        note(f"bias file written to {out}")
+    if plot is not None:
+        note(f"plot written to {plot}")
+
+
+def _fit(file: Path, config: str, parasitics: tuple[str, ...], fixed: dict):
+    """The library's fit; its warnings (and the result's) as messages, never a Python warnings display."""
+    import warnings
+
+    from ..extract import ExtractionWarning, extract
+
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        warnings.simplefilter("ignore", RuntimeWarning)      # results that do not exist are shown as such
+        warnings.simplefilter("ignore", DeprecationWarning)  # third-party notices are not the user's business
+        warnings.simplefilter("ignore", PendingDeprecationWarning)
+        warnings.simplefilter("ignore", FutureWarning)
+        result = extract(file, config, parasitics=parasitics, fixed=fixed)
+    messages: list[str] = []
+    for w in caught:
+        if issubclass(w.category, (ExtractionWarning, UserWarning)):
+            text = " ".join(str(w.message).split())
+            if text not in messages:
+                messages.append(text)
+    for text in result.warnings:
+        text = " ".join(str(text).split())
+        if text not in messages:
+            messages.append(text)
+    return result, messages
+
+
+def _print_result(result, file: Path, check: dict | None, ic: float | None, temp: float) -> None:
+    rows = []
+    for name, value in result.elements.items():
+        sym = _SYMBOL[_unit(name)]
+        u = result.uncertainty.get(name)
+        if name in result.fixed:
+            unc = "held"
+        elif u is None or not math.isfinite(u):
+            unc = "not determined"
+        else:
+            unc = format_si(u, sym)
+        rows.append([name, format_si(value, sym), unc])
+    span = f"{format_si(float(result.freq[0]), 'Hz')} to {format_si(float(result.freq[-1]), 'Hz')}"
+    print_table(f"{result.config.upper()} model fitted to {file.name} ({result.freq.size} points, {span})",
+                ["element", "value", "standard uncertainty"], rows,
+                caption=f"rms error {result.rms_error:.3g} (relative, all points)"
+                        + ("" if result.plausible else "; implausible for a transistor"))
+    if check is not None:
+        rows = [["gm fitted", format_si(result.elements["gm"], "S")],
+                ["IC/VT", format_si(check["gm_ideal"], "S")],
+                ["gm / (IC/VT)", f"{check['ratio']:.4g}"],
+                ["ideality n", f"{check['ideality']:.4g}"],
+                ["excess emitter resistance", format_si(check["re_excess"], "Ω")]]
+        print_table(f"gm against IC = {format_si(ic, 'A')} at T = {temp:.2f} K", ["quantity", "value"], rows,
+                    caption="n = (IC/VT)/gm; excess emitter resistance 1/gm - VT/IC (negative: gm above IC/VT, "
+                            "which no series resistance explains)")
