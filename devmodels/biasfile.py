@@ -136,6 +136,10 @@ def load_bias_file(path: str | Path) -> tuple[dict, dict]:
 def _scalar(key: str, value, unit: str, where: str):
     from .units import type_name
 
+    if unit == "table" and isinstance(value, list):  # rows [[IC, hFE], ...], checked by the schema's parser
+        if len(value) > 1000 or not all(isinstance(r, list) and len(r) <= 4 for r in value):
+            raise FileFormatError(f"{where}: {key}: expected rows [IC, hFE] (at most 1000), got {type_name(value)}")
+        return value
     if isinstance(value, bool) or isinstance(value, (dict, list)) or not isinstance(value, (str, int, float)):
         want = "text" if unit == "str" else "a number or a quantity as text (\"1mA\")"
         raise FileFormatError(f"{where}: {key}: expected {want}, got {type_name(value)}")

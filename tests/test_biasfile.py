@@ -74,3 +74,20 @@ def test_size_limit(tmp_path):
     p = _file(tmp_path, "# " + "x" * MAX_BYTES + "\n")
     with pytest.raises(FileFormatError, match="too large for a bias file"):
         load_bias_file(p)
+
+
+def test_hfe_table_as_toml_rows(tmp_path):
+    # The interface's form of an hFE table: rows [[IC, hFE], ...]; beta at the bias IC is read
+    # off the table (at a row's own IC, that row's hFE).
+    from devmodels.cli import main
+
+    p = tmp_path / "t.toml"
+    p.write_text('ic = "1mA"\nvce = "5V"\nhfe_table = [["100uA", 120], ["1mA", 150], ["10mA", 130]]\n')
+    import contextlib
+    import io
+    import json
+
+    out = io.StringIO()
+    with contextlib.redirect_stdout(out):
+        assert main(["model", str(p), "--json"]) == 0
+    assert json.loads(out.getvalue())["beta"] == 150.0
