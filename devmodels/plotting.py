@@ -76,7 +76,14 @@ def _db20(x: np.ndarray) -> np.ndarray:
     return np.where(np.isfinite(out), out, np.nan)
 
 
-def _gain_axes(ax_mag, ax_ph, gains: dict) -> None:
+def _mark(ax, f: float, text: str, color: str, y: float = 0.04) -> None:
+    """A vertical line at frequency ``f`` (Hz) with a label near the bottom of the axes."""
+    ax.axvline(f, color=color, ls=":", lw=1.0)
+    ax.annotate(text, (f, y), xycoords=("data", "axes fraction"), xytext=(4, 0), textcoords="offset points",
+                color=color, fontsize=8, rotation=90, va="bottom")
+
+
+def _gain_axes(ax_mag, ax_ph, gains: dict, figures=None, mark_freq: float | None = None) -> None:
     for name, res in gains.items():
         if res.freq is None:
             continue
@@ -86,8 +93,19 @@ def _gain_axes(ax_mag, ax_ph, gains: dict) -> None:
         ax_mag.semilogx(res.freq, _db20(res.avs), color=col, label=f"{label} |avs|", **mk)
         ax_mag.semilogx(res.freq, _db20(res.av), color=col, ls="--", lw=0.9, label=f"{label} |av|")
         ax_ph.semilogx(res.freq, np.degrees(np.unwrap(np.angle(res.avs))), color=col, label=label, **mk)
+    from .units import format_si
+
+    corners = []
+    if figures is not None:
+        corners = [(getattr(figures, "f_low", None), "f_low"), (getattr(figures, "bandwidth", None), "f_high")]
+    for f, name in corners:
+        if f is not None:
+            _mark(ax_mag, f, f"{name} = {format_si(f, 'Hz')}", "tab:red")
+    if mark_freq is not None and mark_freq > 0:
+        _mark(ax_mag, mark_freq, f"analysis at {format_si(mark_freq, 'Hz')}", "tab:green", y=0.55)
+    ax_mag.set_xlabel("frequency (Hz)")
     ax_mag.set_ylabel("voltage gain (dB)")
-    ax_mag.set_title("Terminated voltage gain")
+    ax_mag.set_title("Terminated voltage gain" + (" and its -3 dB corners" if any(f for f, _ in corners) else ""))
     ax_mag.grid(True, which="both", alpha=0.3)
     ax_mag.legend(fontsize=7, ncol=2)
     ax_ph.set_xlabel("frequency (Hz)")
@@ -109,7 +127,7 @@ def _smith_axes(ax, s_ports: dict) -> None:
             ax.plot(g.real[:1], g.imag[:1], "o", color=col, ms=3)
     z0 = next(iter(s_ports.values())).z0
     ref = f"{z0[0]:g} Ω" if z0[0] == z0[1] else f"{z0[0]:g} / {z0[1]:g} Ω"
-    ax.set_title(f"S11 (solid), S22 (dashed), z0 = {ref}; dot = lowest frequency", fontsize=9)
+    ax.set_title(f"Smith chart: S11 (solid), S22 (dashed), z0 = {ref}; dot = lowest frequency", fontsize=9)
     ax.legend(fontsize=7, loc="lower left")
 
 
@@ -134,7 +152,7 @@ def _h21_axes(ax, figs) -> None:
 
 
 def plot_report(path, gains: dict | None = None, s_ports: dict | None = None, figures=None,
-                title: str = "") -> Path:
+                title: str = "", mark_freq: float | None = None) -> Path:
     """Draw what is given into one figure and save it as PNG or SVG.
 
     Parameters
@@ -149,6 +167,8 @@ def plot_report(path, gains: dict | None = None, s_ports: dict | None = None, fi
         |h21| of the CE device with fT marked.
     title : str
         Figure title.
+    mark_freq : float, optional
+        A frequency to mark on the gain plot (Hz), e.g. the frequency of a single-point analysis.
 
     Returns
     -------
@@ -172,12 +192,13 @@ def plot_report(path, gains: dict | None = None, s_ports: dict | None = None, fi
     panels = []
     if gains and any(r.freq is not None and len(r) > 1 for r in gains.values()):
         panels += ["mag", "phase"]
-    if s_ports:
+    if s_ports and any(tp.freq is not None and len(tp) > 1 for tp in s_ports.values()):
         panels.append("smith")
     if figures is not None:
         panels.append("h21")
     if not panels:
-        raise InputError("plot: nothing to draw (a plot needs more than one frequency point)")
+        raise InputError("plot: one frequency point is not worth a plot; give several --freq values, "
+                         "or draw the whole band with 'devmodels sweep ... --plot'")
     n = len(panels)
     cols = 2 if n > 1 else 1
     rows = (n + 1) // 2
@@ -187,7 +208,7 @@ def plot_report(path, gains: dict | None = None, s_ports: dict | None = None, fi
         if what == "mag":
             ax_mag = ax
         elif what == "phase":
-            _gain_axes(ax_mag, ax, gains)
+            _gain_axes(ax_mag, ax, gains, figures, mark_freq)
         elif what == "smith":
             _smith_axes(ax, s_ports)
         else:
