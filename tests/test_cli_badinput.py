@@ -43,6 +43,7 @@ BASE: dict[str, list[str]] = {
     "noise": [BJT, "-f", "1MHz"],
     "design": ["--network", "divider", "--vcc", "12", "--ic", "1mA", "--beta-min", "100", "--beta-max", "300"],
     "extract": [str(EXAMPLES / "vhf_gain_stage_ce.s2p")],
+    "solve": [BJT, "--vary", "rdeg", "--target", "av=20", "--rl", "4.7k"],
 }
 #: Options that the base already gives once and that may be given once only (replaced, not added).
 SINGLE = {"--params", "--from", "--to", "--how", "--network", "--vcc", "--r1", "--r2", "--rc", "--re", "--beta",

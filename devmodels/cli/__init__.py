@@ -21,6 +21,7 @@ from . import fetchain  # noqa: F401  (cascade, connect, formula)
 from . import noisecmd  # noqa: F401  (noise)
 from . import designcmd  # noqa: F401  (design)
 from . import extractcmd  # noqa: F401  (extract)
+from . import solvecmd  # noqa: F401  (solve)
 
 __all__ = ["app", "main"]
 

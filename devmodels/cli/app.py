@@ -3,9 +3,22 @@
 from __future__ import annotations
 
 import typer
-from typer.core import TyperCommand
+from typer.core import TyperCommand, TyperGroup
+
+
+class Group(TyperGroup):
+    """The command group: its ``--help`` flag shows no value type either."""
+
+    def get_params(self, ctx):
+        params = super().get_params(ctx)
+        for p in params:
+            if getattr(p, "is_flag", False) and p.metavar is None:
+                p.metavar = ""
+        return params
+
 
 app = typer.Typer(
+    cls=Group,
     name="devmodels",
     no_args_is_help=True,
     add_completion=False,
