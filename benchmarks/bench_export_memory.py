@@ -13,7 +13,9 @@ temporary folder.  The child reports
 
 Target: the export's own memory below 500 MB for 1e7 points (the data themselves take 720 MB
 at 1e7 points and are not the export's).  A benchmark, not a test: nothing here is timed
-against a limit.
+against a limit.  ``bench_sweep_memory.py`` measures the whole command instead
+(``devmodels sweep --out``), where the parameters are computed block by block as they are
+written and the two-port is never held.
 
     python3 benchmarks/bench_export_memory.py [--points 10000000] [--quick]
 """

@@ -30,6 +30,7 @@ FULL = [
     ("bench_startup.py", []),
     ("bench_export.py", []),
     ("bench_export_memory.py", ["--points", "1000000"]),
+    ("bench_sweep_memory.py", ["--points", "1e6"]),
     ("bench_noise.py", []),
     ("bench_extract.py", []),
 ]
@@ -40,6 +41,7 @@ QUICK = [
     ("bench_startup.py", ["--repeat", "5"]),
     ("bench_export.py", ["--points", "100000", "--repeat", "2"]),
     ("bench_export_memory.py", ["--quick"]),
+    ("bench_sweep_memory.py", ["--quick"]),
     ("bench_noise.py", ["--quick"]),
     ("bench_extract.py", ["--repeat", "2"]),
 ]

@@ -84,7 +84,8 @@ from .twoport import TwoPort
 
 __all__ = ["T0", "FORMS", "NoisyTwoPort", "NoiseResult", "stage_noise", "correlation_transform",
            "transform_matrix", "cascade_noise", "connect_noise", "passive_noise", "noise_parameters",
-           "noise_factor", "indefinite_noise", "config_noise", "reconfigure_noise", "ce_noise_design"]
+           "noise_factor", "indefinite_noise", "config_noise", "reconfigure_noise", "ce_noise_design",
+           "ChainNoise", "chain_noise", "ce_low_noise", "plot_nf_vs_ic"]
 
 #: Standard source temperature of the noise factor, K (IEEE; Friis 1944).
 T0 = 290.0
@@ -754,3 +755,190 @@ def ce_noise_design(ic, beta, rs, *, temp=T0, rb=0.0, freq=1e3, va=None, ft=None
     f_at = res.fmin + 2 * res.rn * (ymag - gopt)
     return {"ic": ic, "nf_db": res.nf_db, "ic_opt": float(ic[best]), "nf_db_at_ic_opt": float(res.nf_db[best]),
             "rs_opt": rs_opt, "nf_db_at_rs_opt": 10 * np.log10(f_at), "result": res}
+
+
+# --- noise of a chain, stage by stage --------------------------------------------------------
+
+@dataclass(frozen=True, slots=True)
+class ChainNoise:
+    """Result of :func:`chain_noise` (N stages, F frequencies).
+
+    Attributes
+    ----------
+    f : ndarray (F,)
+        Noise factor of the whole chain at the source ``zs``.
+    stage_f : ndarray (N, F)
+        Each stage's noise factor alone, from the source impedance it sees in the chain
+        (``zsource``); NaN where that impedance has no real part > 0.
+    contribution : ndarray (N, F)
+        Each stage's share of the chain's excess noise factor F - 1, referred to the chain's
+        input: (F_k - 1) / (G_1 ... G_{k-1}) with available gains (Friis); they add up to F - 1.
+    zsource : ndarray, complex (N, F)
+        The source impedance of each stage: ``zs`` for the first, then the output impedance
+        of the chain before it fed from ``zs``, ohm (NaN where it does not exist).
+    """
+
+    f: np.ndarray
+    stage_f: np.ndarray
+    contribution: np.ndarray
+    zsource: np.ndarray
+
+    @property
+    def nf_db(self) -> np.ndarray:
+        """Noise figure of the chain, dB."""
+        return 10 * np.log10(self.f)
+
+    @property
+    def stage_nf_db(self) -> np.ndarray:
+        """Each stage's noise figure alone at its source, dB (NaN where not defined)."""
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return 10 * np.log10(self.stage_f)
+
+
+def chain_noise(parts: Sequence[NoisyTwoPort], zs=50.0) -> ChainNoise:
+    r"""Noise of networks in tandem and each stage's contribution to it.
+
+    The chain's correlation matrix (chain form) is the sum of each stage's, referred to the
+    chain's input: :math:`C_A = \sum_k A_{1..k-1} C_{A,k} A_{1..k-1}^H`
+    (:func:`cascade_noise`; Hillbrand and Russer 1976).  F - 1 is linear in :math:`C_A`, so
+    stage k's share of it is the excess noise factor of its term alone; this equals Friis'
+    :math:`(F_k - 1)/(G_1 \cdots G_{k-1})` with available gains and :math:`F_k` at the
+    output impedance of the chain before stage k (Friis, Proc. IRE 32, 1944).
+
+    Parameters
+    ----------
+    parts : sequence of NoisyTwoPort
+        One or more networks, input first, at the same frequencies (their chain forms must exist).
+    zs : complex or array_like (F,)
+        Source impedance in ohm (real part > 0), at T0 = 290 K.
+
+    Returns
+    -------
+    ChainNoise
+    """
+    parts = list(parts)
+    if not parts:
+        raise InputError("parts: give at least one network")
+    if not isinstance(parts[0], NoisyTwoPort):
+        raise InputError("parts: network 1 is not a NoisyTwoPort")
+    _same_freq(parts)
+    chains = [p.to("abcd") for p in parts]
+    nf = parts[0].freq.size
+    ys = _source_admittance(zs, None, nf)
+    z_s = 1.0 / ys
+    n = len(parts)
+    a = np.broadcast_to(np.eye(2, dtype=complex), (nf, 2, 2))
+    stage_f = np.full((n, nf), np.nan)
+    contrib = np.empty((n, nf))
+    zsrc = np.full((n, nf), _CNAN)
+    zsrc[0] = z_s
+    for k, q in enumerate(chains):
+        if k > 0:  # output impedance of stages 1..k fed from zs: (D zs + B) / (C zs + A)
+            den = a[:, 1, 0] * z_s + a[:, 0, 0]
+            num = a[:, 1, 1] * z_s + a[:, 0, 1]
+            ok = np.abs(den) > 0
+            np.divide(num, den, out=zsrc[k], where=ok)
+        term = _sandwich(a, q.cor)
+        contrib[k] = _factor(term, ys) - 1.0
+        zk = zsrc[k]
+        good = np.isfinite(zk) & (zk.real > 0)
+        if np.any(good):
+            yk = 1.0 / zk[good]
+            stage_f[k, good] = _factor(q.cor[good], yk)
+        a = np.matmul(a, q.data)
+    total = 1.0 + contrib.sum(axis=0)
+    return ChainNoise(total, stage_f, contrib, zsrc)
+
+
+# --- design help: the collector current of least noise, and its plot --------------------------
+
+def ce_low_noise(ic, beta, rs, *, refine: int = 6, **kw) -> dict:
+    """:func:`ce_noise_design` over a grid, with the optimum collector current refined.
+
+    The best point of the grid is refined by repeated finer grids (21 points, log-spaced)
+    between its neighbours, ``refine`` times (each narrows the bracket about tenfold).  When the
+    best point is an end of the grid the optimum is not bracketed and is not refined
+    (``ic_opt_at_edge`` is True: widen the grid).
+
+    Parameters
+    ----------
+    ic : array_like (N,)
+        Collector currents in A, > 0, increasing.
+    beta, rs :
+        As in :func:`ce_noise_design` (``rs`` in ohm, > 0).
+    refine : int
+        Number of refinement passes (>= 0).
+    **kw :
+        ``temp``, ``rb``, ``freq``, ``va``, ``ft``, ``cmu``, ``flicker_corner`` of :func:`ce_noise_design`.
+
+    Returns
+    -------
+    dict
+        The keys of :func:`ce_noise_design` on the grid, and ``ic_best`` (A) and
+        ``nf_db_at_ic_best`` (dB) after refinement, ``ic_opt_at_edge`` (bool).
+    """
+    ic = np.atleast_1d(np.asarray(ic, dtype=float))
+    if ic.ndim == 1 and ic.size > 1 and not np.all(np.diff(ic) > 0):
+        raise InputError("ic: expected increasing collector currents")
+    if not (isinstance(refine, (int, np.integer)) and 0 <= refine <= 20):
+        raise InputError(f"refine: expected a number of passes from 0 to 20, got {refine!r}")
+    out = ce_noise_design(ic, beta, rs, **kw)
+    k = int(np.argmin(out["result"].f))
+    edge = k in (0, ic.size - 1)
+    best, nf_best = float(ic[k]), float(out["nf_db"][k])
+    if not edge:
+        lo, hi = float(ic[k - 1]), float(ic[k + 1])
+        for _ in range(refine):
+            grid = np.geomspace(lo, hi, 21)
+            r = ce_noise_design(grid, beta, rs, **kw)
+            j = int(np.argmin(r["result"].f))
+            if r["nf_db"][j] <= nf_best:
+                best, nf_best = float(grid[j]), float(r["nf_db"][j])
+            lo, hi = float(grid[max(j - 1, 0)]), float(grid[min(j + 1, grid.size - 1)])
+    return {**out, "ic_best": best, "nf_db_at_ic_best": nf_best, "ic_opt_at_edge": edge}
+
+
+def plot_nf_vs_ic(path, ic, curves: dict, optima: dict | None = None, *, title: str = "") -> None:
+    """Draw noise figure against collector current, one curve per source resistance.
+
+    Nothing is computed here; matplotlib (Agg backend) is imported only when called and the
+    figure is written through :func:`devmodels.plotting.save_figure`.
+
+    Parameters
+    ----------
+    path : str or Path
+        Output file (.png or .svg).
+    ic : array_like (N,)
+        Collector currents in A.
+    curves : dict of label -> array_like (N,)
+        Noise figure in dB at each current, per source (label, e.g. ``"Rs = 1 kΩ"``).
+    optima : dict of label -> (ic, nf_db), optional
+        A marked point per curve (its least noise).
+    title : str
+        Figure title.
+    """
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    from .plotting import _check_path, save_figure
+
+    p = _check_path(path)
+    x = np.asarray(ic, dtype=float)
+    fig, ax = plt.subplots(figsize=(7.0, 4.5))
+    try:
+        for label, y in curves.items():
+            (line,) = ax.semilogx(x, np.asarray(y, dtype=float), label=label)
+            if optima and label in optima:
+                xo, yo = optima[label]
+                ax.plot([xo], [yo], "o", color=line.get_color())
+        ax.set_xlabel("collector current IC (A)")
+        ax.set_ylabel("noise figure NF (dB)")
+        ax.grid(True, which="both", alpha=0.3)
+        ax.legend()
+        if title:
+            ax.set_title(title)
+        save_figure(fig, p, option="plot")
+    finally:
+        plt.close(fig)

@@ -4,6 +4,15 @@
 ``stage.two_port(freq, "y", z0)``, in blocks of :data:`BLOCK` frequencies written into one
 result array, and reports progress after each block through an optional callback (the command
 line draws a progress bar with it).
+
+:func:`sweep_stream` holds no parameters at all: it returns a :class:`StreamedSweep`, a view
+with the attributes the writers of :mod:`devmodels.export` read (``freq``, ``data``, ``kind``,
+``z0``, ``config``, ``len()``), whose ``data[i:j]`` computes the stage's parameters of that block
+of frequencies when it is asked for.  Handed to :func:`devmodels.export.write_by_extension` (or
+``touchstone_chunks``, ``csv_chunks``, ``json_chunks``), the export computes, formats and writes
+one block at a time, so its memory is the frequencies (8 bytes per point) plus a few blocks,
+whatever the number of points; the text is the same, byte for byte, as the export of
+``sweep_two_port(stage, freq, z0).to(kind, z0)``.
 """
 
 from __future__ import annotations
@@ -12,10 +21,14 @@ from typing import Callable
 
 import numpy as np
 
-__all__ = ["BLOCK", "sweep_two_port"]
+__all__ = ["BLOCK", "sweep_two_port", "sweep_stream", "StreamedSweep"]
 
-#: Frequencies per block (progress granularity; the stage engine blocks internally as well).
-BLOCK = 50_000
+from .netlist import FREQ_BLOCK
+
+#: Frequencies per block (progress granularity).  A multiple of the stage engine's own block
+#: :data:`devmodels.netlist.FREQ_BLOCK`, so the blocked loop computes every value bit for bit
+#: as one call over the whole sweep does (the last digit can depend on the engine's block).
+BLOCK = 12 * FREQ_BLOCK
 
 
 def sweep_two_port(stage, freq, z0=50.0, progress: Callable[[int, int], None] | None = None):
@@ -50,3 +63,156 @@ def sweep_two_port(stage, freq, z0=50.0, progress: Callable[[int, int], None] | 
         out[i:i + BLOCK] = stage.two_port(f[i:i + BLOCK], "y", z0).data
         progress(min(i + BLOCK, f.size), f.size)
     return TwoPort(f, out, "y", z0, stage.config)
+
+
+class _BlockData:
+    """``data`` of a :class:`StreamedSweep`: slicing computes that block of parameters."""
+
+    __slots__ = ("_sweep",)
+
+    def __init__(self, sweep: "StreamedSweep") -> None:
+        self._sweep = sweep
+
+    @property
+    def shape(self) -> tuple[int, int, int]:
+        return (len(self._sweep), 2, 2)
+
+    def __len__(self) -> int:
+        return len(self._sweep)
+
+    def __getitem__(self, key) -> np.ndarray:
+        if not isinstance(key, slice):
+            raise TypeError("a streamed sweep is read in blocks: data[start:stop]")
+        start, stop, step = key.indices(len(self._sweep))
+        if step != 1:
+            raise TypeError("a streamed sweep is read in contiguous blocks (step 1)")
+        return self._sweep.block(start, max(start, stop)).data
+
+
+class StreamedSweep:
+    """A stage's two-port over a sweep, computed block by block when read (nothing held).
+
+    Parameters
+    ----------
+    stage : Stage
+        The stage.
+    freq : array_like (F,)
+        Frequencies in Hz.
+    kind : {'y', 'z', 'h', 'g', 'abcd', 's'}
+        Parameter kind of the blocks.
+    z0 : float or (float, float)
+        Reference resistance(s) in ohm (S parameters, and the reference the writers show).
+    progress : callable(done, total), optional
+        Called after each block is computed with the index (exclusive) of its last frequency.
+
+    Attributes
+    ----------
+    freq : ndarray (F,)
+        Frequencies in Hz (read-only; the only per-point array held, 8 bytes per point).
+    data : object
+        ``data[i:j]`` is the (j - i, 2, 2) complex array of the parameters at ``freq[i:j]``,
+        computed on demand (contiguous slices only).
+    kind, z0, config, label
+        As for :class:`~devmodels.twoport.TwoPort` (``z0`` as a pair of floats, ohm).
+
+    Notes
+    -----
+    Each block is ``stage.two_port(freq[i:j], "y", z0).to(kind, z0)``, the computation of
+    :func:`sweep_two_port` followed by the conversion the command line applies, so every
+    number equals the one of the whole sweep computed at once.
+    """
+
+    def __init__(self, stage, freq, kind: str = "y", z0=50.0,
+                 progress: Callable[[int, int], None] | None = None) -> None:
+        from .conversions import normalize_z0
+
+        f = np.array(freq, dtype=float)
+        f.setflags(write=False)
+        self.freq = f
+        self.kind = kind
+        self.z0 = normalize_z0(z0)
+        self.config = stage.config
+        self.label = ""
+        self.data = _BlockData(self)
+        self._stage = stage
+        self._z0_in = z0
+        self._progress = progress
+
+    def __len__(self) -> int:
+        return int(self.freq.size)
+
+    def block(self, start: int, stop: int):
+        """The parameters at ``freq[start:stop]`` as a :class:`~devmodels.twoport.TwoPort` of ``kind``.
+
+        Parameters
+        ----------
+        start, stop : int
+            First and one-past-last index into ``freq``.
+        """
+        from .twoport import TwoPort
+
+        # The stage engine computes in blocks of FREQ_BLOCK frequencies, and the last digit of a
+        # value can depend on the block it was computed in: compute the aligned blocks that
+        # contain [start, stop) and keep the part asked for, so every value is bit for bit the
+        # one of the whole sweep (the writers' blocks are multiples of FREQ_BLOCK: no waste).
+        a = start - start % FREQ_BLOCK
+        b = min(len(self), -(-stop // FREQ_BLOCK) * FREQ_BLOCK)
+        y = self._stage.two_port(self.freq[a:b], "y", self._z0_in)
+        tp = y.to(self.kind, self._z0_in)
+        if (a, b) != (start, stop):
+            tp = TwoPort(self.freq[start:stop], tp.data[start - a:stop - a], tp.kind, tp.z0, tp.config)
+        if self._progress is not None:
+            self._progress(stop, len(self))
+        return tp
+
+    def at(self, index):
+        """The parameters at the frequencies ``freq[index]`` (a few points: a table's sample).
+
+        Parameters
+        ----------
+        index : array_like of int
+            Increasing indices into ``freq``.
+
+        Returns
+        -------
+        TwoPort
+            Parameters of ``kind``, frequencies in Hz.  Computed at these frequencies alone,
+            so the last digit of a value may differ from the written file's (rounding only).
+        """
+        idx = np.asarray(index, dtype=int)
+        return self._stage.two_port(self.freq[idx], "y", self._z0_in).to(self.kind, self._z0_in)
+
+    def whole(self):
+        """Every point at once, as :class:`~devmodels.twoport.TwoPort` (holds the whole sweep: small sweeps only)."""
+        return self.block(0, len(self))
+
+
+def sweep_stream(stage, freq, kind: str = "y", z0=50.0,
+                 progress: Callable[[int, int], None] | None = None) -> StreamedSweep:
+    """The sweep of ``stage`` over ``freq`` (Hz) as a :class:`StreamedSweep` (computed when written).
+
+    Parameters
+    ----------
+    stage : Stage
+        The stage.
+    freq : array_like (F,)
+        Frequencies in Hz.
+    kind : {'y', 'z', 'h', 'g', 'abcd', 's'}
+        Parameter kind.
+    z0 : float or (float, float)
+        Reference resistance(s) in ohm.
+    progress : callable(done, total), optional
+        Called after each block is computed.
+
+    Returns
+    -------
+    StreamedSweep
+        Hand it to :func:`devmodels.export.write_by_extension` (or the ``*_chunks`` writers):
+        the export then holds a few blocks of parameters and text, never the whole sweep.
+
+    Examples
+    --------
+    >>> sw = sweep_stream(stage, np.geomspace(1e3, 1e10, 10_000_000), "s", 50.0)  # doctest: +SKIP
+    >>> write_by_extension(sw, "big.s2p")                                           # doctest: +SKIP
+    """
+    return StreamedSweep(stage, freq, kind, z0, progress)

@@ -223,3 +223,42 @@ def test_bipolar_commands_unchanged_by_fet_options(run_json):
     # The bipolar model is untouched by the FET options added to the shared bias panel.
     d = run_json("model", "--ic", "1mA", "--vce", "5", "--beta", "100")
     assert d["gm"] == pytest.approx(1e-3 / dm.thermal_voltage(300))
+
+
+def test_cascade_noise_against_cascade_noise_and_friis(run_json, run, tmp_path):
+    from devmodels.noise import cascade_noise, noise_parameters, stage_noise
+
+    q = _bjt_file(tmp_path)
+    m = _nmos_file(tmp_path)
+    d = run_json("cascade", "--stage", f"ce:{q}", "--stage", f"cg:{m}", "--rs", "75", "--rl", "2k",
+                 "--freq", "1MHz", "--freq", "100MHz")
+    f = [1e6, 1e8]
+    sa = dm.Stage(dm.HybridPi.from_bias(dm.BipolarBias(ic=1e-3, vce=5, beta=120, va=60, ft=400e6, cmu=1.5e-12,
+                                                       rb=40)), "ce")
+    sb = dm.Stage(FetModel.from_bias(MosfetBias(id=2e-3, vds=3, vov=0.25, lambda_=0.04, gamma=0.4, vsb=0.5,
+                                                cgs=1e-12, cgd=0.2e-12)), "cg")
+    na, nb = stage_noise(sa, f), stage_noise(sb, f)
+    total = noise_parameters(cascade_noise([na, nb]), zs=75.0)
+    first = noise_parameters(na, zs=75.0)
+    for i, p in enumerate(d["points"]):
+        assert p["nf_db"] == pytest.approx(float(total.nf_db[i]), rel=1e-9, abs=0)
+        s1, s2 = d["stages"][0]["points"][i], d["stages"][1]["points"][i]
+        assert s1["nf_db"] == pytest.approx(float(first.nf_db[i]), rel=1e-9, abs=0)
+        # Friis: F = F1 + (F2 - 1)/GA1, F2 from stage 1's output impedance, GA1 stage 1's available gain
+        t1 = terminate(sa.two_port(f), 75.0, 2e3)
+        ga1 = 10 ** (t1.ga_db[i] / 10)
+        f2 = float(noise_parameters(nb, zs=t1.zout).f[i])
+        assert s2["nf_db"] == pytest.approx(10 * math.log10(f2), rel=1e-9, abs=0)
+        assert s1["contribution"] == pytest.approx(float(first.f[i]) - 1, rel=1e-9, abs=0)
+        assert s2["contribution"] == pytest.approx((f2 - 1) / ga1, rel=1e-8, abs=0)
+        assert 10 ** (p["nf_db"] / 10) == pytest.approx(float(first.f[i]) + (f2 - 1) / ga1, rel=1e-8, abs=0)
+    code, out, err = run("cascade", "--stage", f"ce:{q}", "--stage", f"cg:{m}", "--freq", "1MHz")
+    assert code == 0 and "Noise of the chain" in out and "NF alone" in out
+
+
+def test_cascade_from_an_ideal_source_has_no_noise_figure(run, tmp_path):
+    q = _bjt_file(tmp_path)
+    code, out, err = run("cascade", "--stage", f"ce:{q}", "--stage", f"cc:{q}", "--rs", "0", "--json")
+    d = json.loads(out)
+    assert code == 0 and "noise: not computed" in err
+    assert d["points"][0]["nf_db"] is None and d["stages"][1]["points"][0]["contribution"] is None

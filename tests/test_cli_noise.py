@@ -281,3 +281,61 @@ def test_bad_input_names_the_value(run, args, prefix):
 
 def test_missing_bias_point(run):
     assert_one_line_error(run, "noise", prefix="bias point: missing")
+
+
+# --- --ic-sweep: the collector current of least noise --------------------------------------------
+
+SWEEP_BIAS = ["--beta", "120", "--rb", "40", "--va", "60V", "--temp", "300K"]
+
+
+def test_ic_sweep_json_equals_the_library(run, tmp_path):
+    from devmodels.noise import ce_low_noise
+
+    plot = tmp_path / "nf_ic.png"
+    code, out, err = run("noise", *SWEEP_BIAS, "--ic-sweep", "10uA:10mA:31", "--rs", "2.2k",
+                         "--rs-list", "300,22k", "-f", "10kHz", "--plot", str(plot), "--json")
+    assert code == 0, err
+    d = json.loads(out)
+    ic = np.geomspace(1e-5, 1e-2, 31)
+    lib = ce_low_noise(ic, 120.0, 2.2e3, temp=300.0, rb=40.0, freq=1e4, va=60.0)
+    assert d["config"] == "ce" and d["rs"] == 2.2e3 and len(d["points"]) == 31
+    assert d["ic_opt"] == pytest.approx(lib["ic_best"], rel=1e-12, abs=0)
+    assert d["nf_db"] == pytest.approx(lib["nf_db_at_ic_best"], rel=1e-12, abs=0) and d["at_edge"] is False
+    for p, i_c, nf, r, nfr in zip(d["points"], ic, lib["nf_db"], lib["rs_opt"], lib["nf_db_at_rs_opt"]):
+        assert p["ic"] == pytest.approx(i_c, rel=1e-12, abs=0)
+        assert p["nf_db"] == pytest.approx(nf, rel=1e-12, abs=0)
+        assert p["rs_opt"] == pytest.approx(r, rel=1e-12, abs=0)
+        assert p["nf_db_at_rs_opt"] == pytest.approx(nfr, rel=1e-12, abs=0)
+    assert [s["rs"] for s in d["sources"]] == [2.2e3, 300.0, 22e3]
+    # a lower source resistance wants more current (the optimum moves as 1/Rs)
+    opt = [s["ic_opt"] for s in d["sources"]]
+    assert opt[1] > opt[0] > opt[2]
+    for s in d["sources"]:
+        curve = np.asarray(s["nf_db_curve"])
+        assert s["nf_db"] <= curve.min() + 1e-12  # refined: no grid point is lower
+    assert plot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    code, out, err = run("noise", *SWEEP_BIAS, "--ic-sweep", "10uA:10mA:31", "--rs", "2.2k")
+    assert code == 0 and "Collector current of least noise" in out and not NAN_INF.search(out)
+
+
+def test_ic_sweep_optimum_at_the_end_is_flagged(run_json):
+    d = run_json("noise", "--beta", "100", "--ic-sweep", "2mA:10mA:5", "--rs", "1k")
+    assert d["at_edge"] is True and d["ic_opt"] == pytest.approx(2e-3, rel=1e-12, abs=0)
+
+
+@pytest.mark.parametrize("args,name", [
+    (["--beta", "100", "--ic-sweep", "1mA:10uA"], "ic-sweep:"),
+    (["--beta", "100", "--ic-sweep", "1mA"], "ic-sweep:"),
+    (["--beta", "100", "--ic-sweep", "10uA:1mA:2"], "ic-sweep:"),
+    (["--beta", "100", "--ic-sweep", "10uA:1mA", "--rs", "50+j10"], "rs:"),
+    (["--beta", "100", "--ic-sweep", "10uA:1mA", "--rs-list", "100,-5"], "rs-list:"),
+    (["--beta", "100", "--ic-sweep", "10uA:1mA", "-f", "1kHz,2kHz"], "freq:"),
+    (["--beta", "100", "--ic-sweep", "10uA:1mA", "--config", "cb"], "config:"),
+    (["--beta", "100", "--ic-sweep", "10uA:1mA", "--plot", "nf.txt"], "plot:"),
+    (["--beta", "100", "--ic", "1mA", "--vce", "5", "--rs-list", "100"], "rs-list:"),
+    (["--beta", "100", "--ic", "1mA", "--vce", "5", "--plot", "nf.png"], "plot:"),
+    (["--device", "nmos", "--id", "2mA", "--vds", "3", "--vov", "0.25", "--ic-sweep", "10uA:1mA"], "ic-sweep:"),
+    (["--ic-sweep", "10uA:1mA"], "bias point:"),
+])
+def test_ic_sweep_bad_input(run, args, name):
+    assert_one_line_error(run, "noise", *args, prefix=name)

@@ -110,7 +110,8 @@ def test_compare_entries_equal_separate_gain_runs(run_json):
     d = run_json("compare", *common, "-f", "2MHz")
     for c in ("ce", "cb", "cc"):
         g = run_json("gain", *common, "--config", c, "-f", "2MHz")
-        assert d[c] == g["points"][0]
+        # every gain key is the same; compare adds each configuration's noise (nf_db, nfmin_db)
+        assert {k: v for k, v in d[c].items() if k not in ("nf_db", "nfmin_db")} == g["points"][0]
     assert set(d["best"]) >= {"voltage_gain", "output_impedance_low", "input_impedance_high", "bandwidth"}
 
 
@@ -295,3 +296,48 @@ def test_compare_and_sweep_of_a_fet(run_json):
     assert s["figures"]["f_beta"] is None  # |h21| has no finite 0 Hz value without gate conductance
     m = run_json("model", fet)
     assert m["ft"] is not None and s["figures"]["ft"] == pytest.approx(m["ft"], rel=0.05)
+
+
+@pytest.mark.parametrize("name, extra", [("a.s2p", []), ("a.ts", ["--kind", "y", "--polar"]),
+                                         ("a.csv", ["--format", "db"]), ("a.json", ["--kind", "h"])])
+def test_sweep_streamed_file_equals_the_whole_sweep_file_byte_for_byte(run, tmp_path, monkeypatch, name, extra):
+    # --out alone streams (computed block by block as written); with --json the whole sweep is
+    # computed first, as before.  40000 points cross several export blocks (16384 lines, 4096
+    # JSON points) and the stage engine's blocks (4096).
+    from devmodels import export, sweeping
+
+    sizes = []
+    block = sweeping.StreamedSweep.block
+    monkeypatch.setattr(sweeping.StreamedSweep, "block",
+                        lambda self, a, b: sizes.append(b - a) or block(self, a, b))
+    args = ("sweep", *BIAS, "--points", "40000", *extra)
+    streamed, whole = tmp_path / name, tmp_path / ("b" + name[1:])
+    code, out, err = run(*args, "--out", str(streamed))
+    assert code == 0, err
+    assert "(showing 21 of 40000 points" in out and "Frequency figures" in out
+    assert len(sizes) >= 3 and max(sizes) <= max(export.BLOCK, export.JSON_BLOCK) and sum(sizes) == 40000
+    sizes.clear()
+    assert run(*args, "--out", str(whole), "--json")[0] == 0
+    assert sizes == []  # with --json, the whole sweep is computed at once
+    a, b = streamed.read_bytes(), whole.read_bytes()
+    assert len(a) > 40000 * 100 and a == b
+
+
+def test_sweep_streamed_shows_the_same_table_as_the_whole_sweep(run, tmp_path, capsys):
+    # the table of a streamed sweep (with or without --out) is the rendering of the whole
+    # sweep's sample: every point up to 41, 21 evenly spread points above
+    from devmodels.cli.render import print_twoport
+
+    for n in (30, 3001):
+        code, shown, _ = run("sweep", *BIAS, "--points", str(n), "--out", str(tmp_path / "a.csv"))
+        assert code == 0
+        code, plain, _ = run("sweep", *BIAS, "--points", str(n))
+        assert code == 0 and plain == shown
+        tp = stage("ce").two_port(np.geomspace(1e3, 1e10, n), "s", 50.0)
+        if n > 41:
+            idx = np.unique(np.linspace(0, n - 1, 21).round().astype(int))
+            tp = dm.TwoPort(tp.freq[idx], tp.data[idx], "s", 50.0, "ce")
+        print_twoport(tp, False)
+        table = capsys.readouterr().out
+        assert len(table.splitlines()) >= len(tp) and shown.startswith(table)
+        assert ("(showing 21 of 3001 points" in shown) == (n > 41)

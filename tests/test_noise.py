@@ -17,7 +17,7 @@ from devmodels.configs import CONFIG_TERMINALS
 from devmodels.constants import thermal_voltage
 from devmodels.interconnect import series_element, shunt_element
 from devmodels.netlist import NOISE_KINDS, Netlist, capacitor, reduce_with_noise, resistor, thermal_noise
-from devmodels.noise import (FORMS, T0, NoisyTwoPort, cascade_noise, ce_noise_design, config_noise,
+from devmodels.noise import (FORMS, T0, NoisyTwoPort, cascade_noise, ce_low_noise, ce_noise_design, config_noise,
                              connect_noise, correlation_transform, indefinite_noise, noise_factor,
                              noise_parameters, passive_noise, reconfigure_noise, stage_noise)
 
@@ -581,3 +581,108 @@ def test_touchstone_noise_between_network_frequencies(tmp_path):
     quiet = NoisyTwoPort(f_noise, st.two_port(f_noise).data, np.zeros((2, 2, 2)))
     with pytest.raises(dm.InputError, match="Yopt does not exist"):
         touchstone_noise_text(st.two_port(f_net, "s"), noise_parameters(quiet), "2.0")
+
+
+# --- chain_noise: the chain's noise and each stage's share (Friis) -----------------------------
+
+def _chain_stages():
+    m = dm.HybridPi.from_bias(dm.BipolarBias(ic=1e-3, vce=5.0, beta=100, va=80.0, ft=300e6, cmu=2e-12, rb=50.0))
+    return [dm.Stage(m, "ce"), dm.Stage(m, "cb"), dm.Stage(m, "cc")]
+
+
+def test_chain_noise_equals_cascade_noise_and_friis_with_available_gains():
+    from devmodels.analysis import terminate
+    from devmodels.chain import cascade
+    from devmodels.noise import chain_noise
+
+    f, rs = [1e3, 1e5], 600.0
+    ntps = [stage_noise(st, f) for st in _chain_stages()]
+    res = chain_noise(ntps, rs)
+    want = noise_parameters(cascade_noise(ntps), zs=rs).f
+    assert res.f == pytest.approx(want, rel=1e-12, abs=0)
+    # Friis (1944): F = F1 + (F2 - 1)/G1 + (F3 - 1)/(G1 G2), available gains, F_k at the output
+    # impedance of the chain before stage k; computed here from the noiseless two-ports.
+    tps = [p.two_port() for p in ntps]
+    friis = noise_parameters(ntps[0], zs=rs).f.copy()
+    assert res.contribution[0] == pytest.approx(friis - 1, rel=1e-12, abs=0)
+    for k in range(1, len(ntps)):
+        head = tps[0] if k == 1 else cascade(*tps[:k])
+        t = terminate(head, rs, 1e3)
+        zsrc, ga = t.zout, 10 ** (t.ga_db / 10)
+        assert np.all(zsrc.real > 0)
+        fk = noise_parameters(ntps[k], zs=zsrc).f
+        assert res.zsource[k] == pytest.approx(zsrc, rel=1e-9, abs=0)
+        assert res.stage_f[k] == pytest.approx(fk, rel=1e-9, abs=0)
+        assert res.contribution[k] == pytest.approx((fk - 1) / ga, rel=1e-8, abs=0)
+        friis = friis + (fk - 1) / ga
+    assert res.f == pytest.approx(friis, rel=1e-8, abs=0)
+    assert res.nf_db == pytest.approx(10 * np.log10(want), rel=1e-12, abs=0)
+
+
+def test_chain_noise_stage_nf_undefined_where_the_source_has_no_resistance():
+    from devmodels.noise import chain_noise
+
+    ntps = [stage_noise(st, [1e6]) for st in _chain_stages()]
+    res = chain_noise(ntps, 600.0)
+    bad = ~(res.zsource.real > 0)
+    assert np.any(bad)  # here the cascode's output impedance at 1 MHz has a negative real part
+    assert np.all(np.isnan(res.stage_f[bad])) and np.all(np.isfinite(res.contribution))
+    with pytest.raises(dm.InputError, match="zs"):
+        chain_noise(ntps, 0.0)
+    with pytest.raises(dm.InputError, match="parts"):
+        chain_noise([])
+
+
+# --- ce_low_noise: the collector current of least noise ------------------------------------------
+
+def test_ce_low_noise_optimum_is_the_lowest_point_of_a_dense_curve():
+    kw = dict(temp=300.0, rb=60.0, freq=1e4, va=80.0, flicker_corner=2e3)
+    out = ce_low_noise(np.geomspace(1e-6, 1e-2, 17), 150.0, 2.2e3, **kw)
+    assert not out["ic_opt_at_edge"]
+    dense = np.geomspace(1e-6, 1e-2, 40001)
+    d = ce_noise_design(dense, 150.0, 2.2e3, **kw)
+    j = int(np.argmin(d["nf_db"]))
+    step = math.log(dense[1] / dense[0])
+    assert abs(math.log(out["ic_best"] / dense[j])) <= step
+    # the refined point is at least as low as the dense grid's lowest, and is on the same curve
+    assert out["nf_db_at_ic_best"] <= d["nf_db"][j] + 1e-12
+    again = ce_noise_design([out["ic_best"]], 150.0, 2.2e3, **kw)
+    assert again["nf_db"][0] == pytest.approx(out["nf_db_at_ic_best"], rel=1e-12, abs=0)
+    assert out["nf_db_at_ic_best"] <= out["nf_db_at_ic_opt"]  # better than (or equal to) the coarse grid's
+
+
+def test_ce_low_noise_against_the_closed_form_without_base_resistance():
+    # rb = 0, low frequency, no ro: u = i_c/gm, i = i_b + i_c/beta with shot noise 2qIC, 2qIB, so
+    # C_u = 2q VT^2/IC, C_i = 2q IC (1 + beta)/beta^2, C_ui real (IC-independent term). F - 1 =
+    # (C_u/Rs + C_i Rs + 2 C_ui)/(4kT0) is least where C_u/Rs = C_i Rs at IC:
+    #   IC_opt = VT beta / (Rs sqrt(1 + beta))   (the classic VT sqrt(beta)/Rs within about 1/(2 beta)).
+    beta, rs = 100.0, 1e3
+    vt = thermal_voltage(T0)
+    out = ce_low_noise(np.geomspace(1e-6, 1e-2, 41), beta, rs, temp=T0, rb=0.0, freq=1e3)
+    exact = vt * beta / (rs * math.sqrt(1 + beta))
+    assert out["ic_best"] == pytest.approx(exact, rel=1e-5, abs=0)
+    classic = vt * math.sqrt(beta) / rs
+    err = abs(out["ic_best"] / classic - 1)
+    assert err < 1 / (2 * beta) and err > 1 / (4 * beta)  # the approximation's size of error, not better
+    # the best source resistance at each current: the same balance, Rs_opt = VT beta / (IC sqrt(1 + beta))
+    np.testing.assert_allclose(out["rs_opt"], vt * beta / (out["ic"] * math.sqrt(1 + beta)), rtol=1e-9, atol=0)
+
+
+def test_ce_low_noise_flags_an_optimum_at_the_end_of_the_grid_and_bad_input():
+    out = ce_low_noise(np.geomspace(1e-3, 1e-2, 5), 100.0, 1e3, temp=T0)  # the optimum (~0.25 mA) is below
+    assert out["ic_opt_at_edge"] and out["ic_best"] == 1e-3
+    with pytest.raises(dm.InputError, match="increasing"):
+        ce_low_noise([1e-3, 1e-4], 100.0, 1e3)
+    with pytest.raises(dm.InputError, match="refine"):
+        ce_low_noise([1e-4, 1e-3, 1e-2], 100.0, 1e3, refine=-1)
+
+
+def test_plot_nf_vs_ic_writes_a_png(tmp_path):
+    from devmodels.noise import plot_nf_vs_ic
+
+    ic = np.geomspace(1e-5, 1e-2, 7)
+    out = tmp_path / "nf.png"
+    plot_nf_vs_ic(out, ic, {"Rs = 1 kΩ": np.linspace(3, 1, 7)}, {"Rs = 1 kΩ": (1e-3, 1.0)}, title="demo")
+    assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    with pytest.raises(dm.InputError, match="plot"):
+        plot_nf_vs_ic(tmp_path / "nf.txt", ic, {"a": np.ones(7)})

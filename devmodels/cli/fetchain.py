@@ -16,8 +16,8 @@ from .app import command
 from .inputs import (Inputs, bias_options, check_config, check_kind, parse_freq, parse_freqs, parse_given, parse_z0,
                      terminations)
 from .options import ConfigOpt, FreqOpt, JsonOpt, PolarOpt, RlOpt, RsOpt, Z0Opt
-from .render import (emit_json, gain_text, imp_text, point_json, print_gain, print_table, print_twoport, stdout,
-                     warn, z0json, zjson)
+from .render import (db_text, emit_json, gain_text, imp_text, point_json, print_gain, print_table, print_twoport,
+                     stdout, warn, z0json, zjson, zstr)
 
 #: Frequency of a single-point analysis when none is given, Hz.
 DEFAULT_FREQ = 1e3
@@ -100,9 +100,16 @@ def cascade_cmd(
     rs: RsOpt = "50", rl: RlOpt = "1k",
     freq: FreqOpt = None, z0: Z0Opt = "50", polar: PolarOpt = False, as_json: JsonOpt = False,
 ) -> None:
-    """Two or more stages in a chain (ABCD product): the whole chain's gains, impedances and
-    stability between --rs and --rl, and each stage's gain and impedances as loaded in the chain."""
+    """Two or more stages in a chain (ABCD product): the whole chain's gains, impedances, stability and
+    noise figure between --rs and --rl, and each stage's gain, impedances and noise as loaded in the chain.
+
+    Noise: the source --rs at T0 = 290 K; each stage's NF alone is from the source impedance it sees (the
+    output impedance of the chain before it) and its contribution is (F_k - 1)/(G_1...G_{k-1}) with
+    available gains (Friis), the contributions adding up to the chain's F - 1."""
     from ..chain import analyse_chain
+    from ..exceptions import SingularParameterError
+    from ..noise import chain_noise
+    from .noisecmd import _stage_noise
 
     specs: list[tuple[str, str, Inputs]] = []
     if pair is not None:
@@ -129,11 +136,26 @@ def cascade_cmd(
     zs, zl = terminations(rs, rl)
     parts = [b.stage(config).two_port(f, "y", z0v) for config, _, b in specs]
     res = analyse_chain(parts, zs, zl, z0v)
+    noise, why = None, "an ideal source (Rs without a real part > 0) has no noise figure"
+    if math.isfinite(zs.real) and zs.real > 0:
+        try:
+            # each stage's noise as the noise command takes it (FET model at --temp, the file's noise keys)
+            noise = chain_noise([_stage_noise(b, config, f, b.get("flicker_corner"), b.get("gamma_n"))[0]
+                                 for config, _, b in specs], zs)
+        except (InputError, SingularParameterError) as exc:
+            why = str(exc)
+    if noise is None:
+        warn(f"noise: not computed ({why})")
     chain_name = "+".join(c for c, _, _ in specs)
     t = res.total
     points = [point_json(t, i) for i in range(len(t))]
+    for i, p in enumerate(points):
+        p["nf_db"] = None if noise is None else float(noise.nf_db[i])
+    stage_nf = None if noise is None else noise.stage_nf_db
     stages = [{"config": c, "file": p,
-               "points": [{"freq": float(f[i]), "av": res.av[k, i], "zin": res.zin[k, i], "zout": res.zout[k, i]}
+               "points": [{"freq": float(f[i]), "av": res.av[k, i], "zin": res.zin[k, i], "zout": res.zout[k, i],
+                           "nf_db": None if noise is None else float(stage_nf[k, i]),
+                           "contribution": None if noise is None else float(noise.contribution[k, i])}
                           for i in range(len(f))]}
               for k, (c, p, _) in enumerate(specs)]
     if as_json:
@@ -143,14 +165,25 @@ def cascade_cmd(
     from ..units import format_si
 
     print_gain(points, zs, zl, z0v, f"Chain {chain_name.upper()}", polar=polar)
+    if noise is not None:
+        print_table(f"Noise of the chain from Rs = {zstr(zs)} at T0 = 290 K", ["freq", "NF"],
+                    [[format_si(p["freq"], "Hz"), db_text(p["nf_db"], "—")] for p in points])
+
+    def share(v):
+        return "—" if v is None or not math.isfinite(v) else f"{v:.4g}"
+
     srows = []
     for k, s in enumerate(stages):
         for p in s["points"]:
             srows.append([f"{k + 1} {s['config']} ({s['file']})", format_si(p["freq"], "Hz"),
-                          gain_text(p["av"], polar), imp_text(p["zin"], polar), imp_text(p["zout"], polar)])
-    print_table("Each stage as loaded in the chain", ["stage", "freq", "av", "zin", "zout"], srows,
+                          gain_text(p["av"], polar), imp_text(p["zin"], polar), imp_text(p["zout"], polar),
+                          db_text(p["nf_db"], "undefined"), share(p["contribution"])])
+    print_table("Each stage as loaded in the chain", ["stage", "freq", "av", "zin", "zout", "NF alone", "adds to F"],
+                srows,
                 caption="av = V(out)/V(in) of the stage; zin with the rest of the chain as load; "
-                        "zout with the chain before it (from Rs) as source.")
+                        "zout with the chain before it (from Rs) as source. NF alone: from the source impedance "
+                        "the stage sees (undefined where its real part is not > 0); adds to F: "
+                        "(F_k - 1)/(G_1...G_(k-1)), available gains, referred to the chain's input.")
 
 
 # --- connect ---------------------------------------------------------------------------------

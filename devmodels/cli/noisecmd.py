@@ -126,6 +126,123 @@ def _touchstone_noise(path: Path, freq: np.ndarray | None):
     return NoisyTwoPort(ntp.freq[idx], ntp.data[idx], ntp.cor[idx], ntp.form)
 
 
+_IcSweepOpt = Annotated[Optional[str], typer.Option(
+    "--ic-sweep", help="Low-noise design of the bare CE transistor (bipolar only): search the collector "
+                       "current from START to STOP (A, log-spaced, N points, default 41) for the least NF at "
+                       "--rs (a resistance), and give at each current the source resistance of least NF. "
+                       "Replaces the bias point's IC; one --freq (default 1 kHz).",
+    show_default=False, metavar="START:STOP[:N]", rich_help_panel="Low-noise design")]
+_RsListOpt = Annotated[Optional[str], typer.Option(
+    "--rs-list", help="With --ic-sweep: more source resistances, ohm, comma-separated (e.g. 100,1k,10k), each "
+                      "with its own NF curve, optimum current and plot line.",
+    show_default=False, metavar="OHM,OHM,...", rich_help_panel="Low-noise design")]
+_NoisePlotOpt = Annotated[Optional[Path], typer.Option(
+    "--plot", help="With --ic-sweep: draw NF against IC, one curve per source resistance, into FILE.png or "
+                   "FILE.svg.", show_default=False, metavar="FILE", rich_help_panel="Low-noise design")]
+#: Default and largest number of points of --ic-sweep.
+IC_SWEEP_POINTS, IC_SWEEP_MAX = 41, 10_001
+
+
+def _ic_sweep(text: str) -> np.ndarray:
+    """``START:STOP[:N]`` -> N log-spaced collector currents in A."""
+    from ..units import parse_count
+
+    parts = text.split(":")
+    if len(parts) not in (2, 3):
+        raise InputError(f"ic-sweep: expected START:STOP[:N] in A (e.g. 10uA:10mA:41), got {shown(text)}")
+    lo, hi = (parse_quantity(x, "A", "ic-sweep") for x in parts[:2])
+    if not (math.isfinite(lo) and math.isfinite(hi) and 0 < lo < hi):
+        raise InputError(f"ic-sweep: expected 0 A < START < STOP, got {shown(text)}")
+    n = parse_count(parts[2], "ic-sweep", IC_SWEEP_MAX, minimum=3) if len(parts) == 3 else IC_SWEEP_POINTS
+    grid = np.geomspace(lo, hi, n)
+    if not np.all(np.diff(grid) > 0):
+        raise InputError(f"ic-sweep: START and STOP too close for {n} distinct points, got {shown(text)}")
+    return grid
+
+
+def _resistance(text: str, name: str) -> float:
+    z = _source(text) if name == "rs" else None
+    if z is None:
+        from ..schema import IMPEDANCE
+        from ..units import parse_impedance
+
+        z = parse_impedance(text, name, bounds=IMPEDANCE)
+    if z.imag != 0 or not (math.isfinite(z.real) and z.real > 0):
+        raise InputError(f"{name}: the low-noise design takes a source resistance > 0 ohm, got {shown(text)}")
+    return z.real
+
+
+def _low_noise_design(bias_in: Inputs, config, rs: str, rs_list: str | None, sweep: str, f, fc, plot,
+                      as_json: bool) -> None:
+    """``noise --ic-sweep``: the library's :func:`devmodels.noise.ce_low_noise` shown as table and JSON."""
+    from ..bias import DEFAULT_TEMP
+    from ..noise import T0, ce_low_noise, plot_nf_vs_ic
+
+    if not bias_in.given():
+        raise InputError("bias point: missing; --ic-sweep takes a bipolar device (--beta, ... or a bias file)")
+    if bias_in.family != "bipolar":
+        raise InputError(f"ic-sweep: a bipolar design help, not for a {bias_in.device}")
+    if config is not None and check_config(config) != "ce":
+        raise InputError(f"config: --ic-sweep designs the CE stage, got {shown(config)}")
+    if bias_in.has_network():
+        raise InputError("ic-sweep: the bias network sets IC; remove the [network] table to sweep IC")
+    for key in ("rdeg", "rfb", "rmu", "rcx", "rex", "hfe_table"):
+        if bias_in.get(key) not in (None, 0, 0.0):
+            raise InputError(f"{key}: not used by --ic-sweep (the bare CE transistor with rb, va, ft, cmu); "
+                             "remove it")
+    ic = _ic_sweep(sweep)
+    r0 = _resistance(rs, "rs")
+    extra = [] if rs_list is None else [_resistance(x, "rs-list") for x in rs_list.split(",")]
+    rlist = list(dict.fromkeys([r0, *extra]))
+    if f is not None and f.size != 1:
+        raise InputError("freq: --ic-sweep takes one frequency")
+    freq = float(f[0]) if f is not None else DEFAULT_FREQ
+    if freq <= 0 and fc:
+        raise InputError("freq: 1/f noise (--flicker-corner) has no value at 0 Hz; give a frequency above 0 Hz")
+    if plot is not None:
+        from ..fileio import check_destination
+
+        if plot.suffix.lower() not in (".png", ".svg"):
+            raise InputError(f"plot: expected a file name ending in .png or .svg, got {shown(str(plot))}")
+        check_destination(plot, option="plot")
+    beta = bias_in.beta_at_temp(bias_in.require("beta", "current gain hFE, e.g. 100"))
+    kw = dict(temp=bias_in.get("temp", DEFAULT_TEMP), rb=bias_in.get("rb", 0.0), freq=freq, va=bias_in.get("va"),
+              ft=bias_in.get("ft"), cmu=bias_in.get("cmu", 0.0), flicker_corner=fc or 0.0)
+    designs = {r: ce_low_noise(ic, beta, r, **kw) for r in rlist}
+    d0 = designs[r0]
+    if plot is not None:
+        labels = {r: f"Rs = {format_si(r, 'Ω')}" for r in rlist}
+        plot_nf_vs_ic(plot, ic, {labels[r]: designs[r]["nf_db"] for r in rlist},
+                      {labels[r]: (designs[r]["ic_best"], designs[r]["nf_db_at_ic_best"]) for r in rlist},
+                      title=f"CE noise figure against IC at {format_si(freq, 'Hz')} (source at T0 = 290 K)")
+
+    def best(d):
+        return {"ic_opt": d["ic_best"], "nf_db": d["nf_db_at_ic_best"], "at_edge": bool(d["ic_opt_at_edge"])}
+
+    out = {"config": "ce", "freq": freq, "t0": T0, "rs": r0, **best(d0),
+           "points": [{"ic": float(ic[i]), "nf_db": float(d0["nf_db"][i]), "rs_opt": float(d0["rs_opt"][i]),
+                       "nf_db_at_rs_opt": float(d0["nf_db_at_rs_opt"][i])} for i in range(ic.size)],
+           "sources": [{"rs": r, **best(designs[r]), "nf_db_curve": [float(x) for x in designs[r]["nf_db"]]}
+                       for r in rlist]}
+    if as_json:
+        emit_json(out)
+    else:
+        rows = [[format_si(p["ic"], "A"), f"{p['nf_db']:.3f} dB", _num(p["rs_opt"], "Ω"),
+                 f"{p['nf_db_at_rs_opt']:.3f} dB" if math.isfinite(p["nf_db_at_rs_opt"]) else "—"]
+                for p in out["points"]]
+        print_table(f"CE noise against IC at {format_si(freq, 'Hz')}, source at T0 = 290 K",
+                    ["IC", f"NF at Rs = {format_si(r0, 'Ω')}", "best Rs at this IC", "NF at best Rs"], rows,
+                    caption="best Rs: the real source resistance of least NF at that current (|Yopt|^-1).")
+        rows = [[format_si(s["rs"], "Ω"), format_si(s["ic_opt"], "A"), f"{s['nf_db']:.3f} dB",
+                 "at the end of the sweep: widen it" if s["at_edge"] else "refined between grid points"]
+                for s in out["sources"]]
+        print_table("Collector current of least noise", ["Rs", "IC opt", "NF at IC opt", "note"], rows)
+    if plot is not None:
+        from .render import note
+
+        note(f"plot written to {plot}")
+
+
 def _noise_keys(k) -> bool:
     """The bias-point keys of ``gain``; the noise keys are this command's own options."""
     return MODEL_KEYS(k) and k.name not in ("flicker_corner", "gamma_n")
@@ -137,7 +254,8 @@ def noise_cmd(bias_in: Inputs, config: ConfigOpt = None, rs: _NoiseRsOpt = DEFAU
               z0: Annotated[str, typer.Option(
                   "--z0", help="Reference resistance of gamma_opt, ohm (one value).", metavar="OHM")] = "50",
               touchstone: _NoiseTouchstoneOpt = None, flicker_corner: _FlickerOpt = None,
-              gamma_n: _GammaNOpt = None, as_json: JsonOpt = False) -> None:
+              gamma_n: _GammaNOpt = None, ic_sweep: _IcSweepOpt = None, rs_list: _RsListOpt = None,
+              plot: _NoisePlotOpt = None, as_json: JsonOpt = False) -> None:
     """Noise figure at --rs and the noise parameters (NFmin, Rn, Yopt, Zopt, gamma_opt) of a stage.
 
     The source is at T0 = 290 K (the standard temperature of the noise-factor definition).
@@ -145,9 +263,26 @@ def noise_cmd(bias_in: Inputs, config: ConfigOpt = None, rs: _NoiseRsOpt = DEFAU
     The device and its resistors are at their own temperature (--temp).
 
     Without --freq a bias point is analysed at 1 kHz.
+
+    With --ic-sweep (bipolar): the collector current of least NF at --rs, and the best source resistance at
+    each current.
     """
     from ..noise import T0, noise_parameters
 
+    if ic_sweep is None:
+        for name, v in (("rs-list", rs_list), ("plot", plot)):
+            if v is not None:
+                raise InputError(f"{name}: used with --ic-sweep only")
+    else:
+        if touchstone is not None:
+            raise InputError("ic-sweep: a design help for a bias point; not used with --touchstone")
+        if gamma_n is not None:
+            raise InputError("gamma-n: a FET option, not used with --ic-sweep")
+        fc = _nonneg(flicker_corner, "flicker-corner", "Hz")
+        if fc is None:
+            fc = bias_in.get("flicker_corner")
+        _low_noise_design(bias_in, config, rs, rs_list, ic_sweep, parse_freqs(freq), fc, plot, as_json)
+        return
     zs = _source(rs)
     zref = _one_z0(z0)
     fc = _nonneg(flicker_corner, "flicker-corner", "Hz")

@@ -87,7 +87,7 @@ def compare_cmd(bias_in: Inputs, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT_RL,
                 polar: PolarOpt = False, as_json: JsonOpt = False) -> None:
     """Every configuration of the device (CE, CB, CC or CS, CG, CD) side by side: same bias and terminations."""
     from ..analysis import terminate
-    from ..comparison import CATEGORIES, winners
+    from ..comparison import CATEGORIES, configuration_noise, winners
     from ..merit import bandwidth
 
     zs, zl = terminations(rs, rl)
@@ -105,6 +105,18 @@ def compare_cmd(bias_in: Inputs, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT_RL,
         res = terminate(st.two_port(f, "y", z0v), zs, zl, z0v)
         points[c] = point_json(res, 0)
         bws[c] = bandwidth(st, *COMPARE_RANGE, zs, zl)[0]
+    from .noisecmd import _stage_noise
+    from .render import warn
+
+    try:  # each configuration's noise as the noise command takes it (FET at --temp, the file's noise keys)
+        noisy = {c: _stage_noise(bias_in, c, f, bias_in.get("flicker_corner"), bias_in.get("gamma_n"))[0]
+                 for c in configs}
+        for c, nz in configuration_noise(noisy, float(f[0]), zs).items():
+            points[c].update(nz)  # nf_db at Rs (source at T0 = 290 K) and nfmin_db
+    except InputError as exc:
+        warn(f"noise: not computed ({exc})")
+        for c in configs:
+            points[c].update(nf_db=None, nfmin_db=None)
     best = winners(points, bws)
     if plot is not None:
         _compare_plot(plot, stages, zs, zl, z0v)
@@ -116,14 +128,16 @@ def compare_cmd(bias_in: Inputs, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT_RL,
             ("ai = -I2/I1", lambda p: gain_text(p["ai"], polar)), ("zin", lambda p: imp_text(p["zin"], polar)),
             ("zout", lambda p: imp_text(p["zout"], polar)), ("GT", lambda p: db_text(p["gt_db"], power_missing)),
             ("K", lambda p: stab_text(p["k"])), ("mu", lambda p: stab_text(p["mu"])),
-            ("MAG/MSG", msg_text), ("U", lambda p: db_text(p["u_db"]))]
+            ("MAG/MSG", msg_text), ("U", lambda p: db_text(p["u_db"])),
+            ("NF at Rs", lambda p: db_text(p["nf_db"], "undefined")), ("NFmin", lambda p: db_text(p["nfmin_db"]))]
     rows = [[name] + [fn(points[c]) for c in configs] for name, fn in spec]
     rows.append(["-3 dB bandwidth"] + [format_si(bws[c], "Hz") if bws[c] else "unbounded" for c in configs])
     names = ", ".join(c.upper() for c in configs)
     print_table(f"{names} at {format_si(float(f[0]), 'Hz')} between Rs = {zstr(zs)} and RL = {zstr(zl)}",
                 ["quantity", *(c.upper() for c in configs)], rows,
                 caption="bandwidth: where |avs| falls 3 dB below its mid-band value above mid-band "
-                        f"(searched up to {format_si(COMPARE_RANGE[1], 'Hz')})")
+                        f"(searched up to {format_si(COMPARE_RANGE[1], 'Hz')}); NF: source Rs at T0 = 290 K "
+                        "(undefined for an ideal source)")
     for c in configs:
         wins = [cat.text for cat in CATEGORIES if best[cat.key] == c]
         stdout(f"{c.upper()}: " + ("; ".join(wins) if wins else "wins none of these") + "\n")
@@ -200,7 +214,7 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
     """Two-port parameters over a log-spaced sweep, with fT, f_beta, fmax and the bandwidth."""
     from ..analysis import terminate
     from ..merit import frequency_figures
-    from ..sweeping import sweep_two_port
+    from ..sweeping import sweep_stream, sweep_two_port
 
     config = check_config(config) if config is not None else None
     kind = check_kind(kind)
@@ -222,7 +236,13 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
     stage = bias_in.stage(config)
     config = stage.config
     progress = (not as_json) and f.size >= PROGRESS_POINTS and sys.stderr.isatty()
-    if progress:
+    # Without --plot or --json: the parameters are computed block by block as --out is written
+    # (devmodels.sweeping.sweep_stream), the table's sample on its own; the sweep is never held whole.
+    stream = plot is None and not as_json
+    if stream:
+        y = None
+        tp = sweep_stream(stage, f, kind, z0v)
+    elif progress:
         from rich.console import Console
         from rich.progress import Progress
 
@@ -231,7 +251,8 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
             y = sweep_two_port(stage, f, z0v, lambda done, total: bar.update(task, completed=done))
     else:
         y = sweep_two_port(stage, f, z0v)
-    tp = y.to(kind, z0v)
+    if not stream:
+        tp = y.to(kind, z0v)
     figs = frequency_figures(stage, float(f[0]), float(f[-1]), zs, zl) if f.size > 1 and f[-1] > f[0] else None
     fig_json = None if figs is None else figs.as_dict()
     if figs is not None:
@@ -256,7 +277,16 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
                                       comment=comment, extra_json={"figures": jsonable(fig_json),
                                                                    "stage": jsonable(record)}, option="out")
 
-        if progress:
+        if progress and stream:
+            from rich.console import Console
+            from rich.markup import escape
+            from rich.progress import Progress
+
+            with Progress(console=Console(stderr=True), transient=True) as bar:
+                task = bar.add_task(f"writing {escape(str(out))}", total=f.size)
+                tp = sweep_stream(stage, f, kind, z0v, lambda done, total: bar.update(task, completed=done))
+                written = write()
+        elif progress:
             from rich.console import Console
 
             from rich.markup import escape
@@ -283,9 +313,12 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
             from ..twoport import TwoPort
 
             idx = np.unique(np.linspace(0, len(tp) - 1, 21).round().astype(int))
-            shown_tp = TwoPort(tp.freq[idx], tp.data[idx], tp.kind, tp.z0, tp.config)
+            shown_tp = (tp.at(idx) if stream else
+                        TwoPort(tp.freq[idx], tp.data[idx], tp.kind, tp.z0, tp.config))
+        elif stream:
+            shown_tp = tp.whole()
         print_twoport(shown_tp, polar)
-        if shown_tp is not tp:
+        if len(shown_tp) < len(tp):
             stdout(f"(showing {len(shown_tp)} of {len(tp)} points; --out FILE or --json for all)\n")
         if figs is not None:
             _print_figures(figs, zs, zl, stage)
