@@ -26,11 +26,11 @@ HERE = Path(__file__).resolve().parent
 FULL = [
     ("bench_convert.py", []),
     ("bench_pipeline.py", []),
-    ("bench_spread.py", ["--samples", "1e7", "--repeat", "3", "--repeat-large", "1"]),
+    ("bench_spread.py", ["--samples", "10000000", "--repeat", "3", "--repeat-large", "1"]),
     ("bench_startup.py", []),
     ("bench_export.py", []),
     ("bench_export_memory.py", ["--points", "1000000"]),
-    ("bench_sweep_memory.py", ["--points", "1e6"]),
+    ("bench_sweep_memory.py", ["--points", "1000000"]),
     ("bench_noise.py", []),
     ("bench_extract.py", []),
 ]

@@ -24,7 +24,8 @@ from .exceptions import InputError
 from .units import Bounds, check_bounds, parse_quantity, parse_temperature, shown, temperature_warning, type_name
 
 __all__ = ["Key", "DEVICES", "FAMILY", "PANELS", "TABLES", "keys", "flat_keys", "table_keys", "merge",
-           "nearest", "STAGE_NETWORK", "DATASHEET", "MAX_POINTS", "MAX_SAMPLES", "FREQ", "Z0", "IMPEDANCE"]
+           "nearest", "STAGE_NETWORK", "DATASHEET", "FET_DATASHEET", "MAX_POINTS", "MAX_SAMPLES", "FREQ", "Z0",
+           "IMPEDANCE"]
 
 #: Every device type and its family ("bipolar", "mosfet", "jfet").
 FAMILY: dict[str, str] = {"npn": "bipolar", "pnp": "bipolar", "nmos": "mosfet", "pmos": "mosfet",
@@ -36,7 +37,8 @@ PANELS: dict[str, str] = {
     "stage": "Stage: external resistors", "rating": "Ratings and temperature coefficients",
     "network": "Bias network", "spread": "Spread limits",
     "stagenet": "Stage network in the AC analysis ([network] table)",
-    "datasheet": "Datasheet values at their test conditions (bipolar)"}
+    "datasheet": "Datasheet values at their test conditions (bipolar)",
+    "fetdatasheet": "Datasheet values at their test conditions (FET)"}
 #: Tables a bias file may hold.
 TABLES: tuple[str, ...] = ("network",)
 
@@ -264,6 +266,28 @@ DATASHEET: tuple[tuple[str, str, str, Bounds | None], ...] = (
     ("hfe_table", "table", "hFE against IC instead of beta: \"IC:hFE, IC:hFE, ...\" (IC increasing), "
      "e.g. \"100uA:120, 1mA:150, 10mA:140\"; linear in log10 IC.", None),
     ("ib", "A", "Base current instead of ic, A (IC = beta IB).", Bounds(1e-18, 10.0, zero=False)),
+    ("hie", "Ohm", "h-parameter input impedance hie, ohm, at h_at_ic (with hre, hfe, hoe: instead of beta, "
+     "va, rb, rmu).", Bounds(1e-6, 1e12, zero=False)),
+    ("hre", "", "h-parameter reverse voltage ratio hre (0 <= hre < 1), at h_at_ic.", Bounds(1e-15, 1.0)),
+    ("hfe", "", "h-parameter forward current ratio hfe, at h_at_ic.", Bounds(1e-3, 1e6, zero=False)),
+    ("hoe", "S", "h-parameter output admittance hoe, S, at h_at_ic.", Bounds(1e-18, 1e3)),
+    ("h_at_ic", "A", "Test IC of hie, hre, hfe, hoe, A: the elements are moved from it to the bias IC.",
+     Bounds(1e-15, 100.0, zero=False)),
+    ("h_at_vce", "V", "Test VCE of the h-parameters, V (recorded).", Bounds(1e-6, 1e4, zero=False)),
+)
+
+#: FET datasheet values at their test conditions (:mod:`devmodels.datasheet`): (name, unit, help, bounds).
+FET_DATASHEET: tuple[tuple[str, str, str, Bounds | None], ...] = (
+    ("yfs", "S", "Forward transfer admittance |yfs|, S, at yfs_at_id: the model's gm, moved to the bias ID by "
+     "the square law (instead of kn; vov or idss/vp still set the DC point).", Bounds(1e-12, 1e4, zero=False)),
+    ("yfs_at_id", "A", "Test ID of yfs, A (a JFET's is usually IDSS).", Bounds(1e-15, 100.0, zero=False)),
+    ("ciss", "F", "Input capacitance Ciss, F (with crss, coss: instead of cgs, cgd, cdb; Cgs = Ciss - Crss).",
+     Bounds(1e-18, 1.0, zero=False)),
+    ("crss", "F", "Reverse transfer capacitance Crss, F (Cgd = Crss).", Bounds(1e-18, 1.0, zero=False)),
+    ("coss", "F", "Output capacitance Coss, F (cdb = Coss - Crss, drain to source).",
+     Bounds(1e-18, 1.0, zero=False)),
+    ("c_at_vds", "V", "Test VDS of ciss, crss, coss, V (recorded; not moved to the bias VDS).",
+     Bounds(1e-6, 1e4, zero=False)),
 )
 
 
@@ -291,6 +315,8 @@ def keys() -> dict[str, Key]:
         add(Key(name, None, unit, help_, b, panel, None, lib, also))
     for name, unit, help_, b in DATASHEET:
         add(Key(name, None, unit, help_, b, "datasheet", "bipolar", f"datasheet.{name}"))
+    for name, unit, help_, b in FET_DATASHEET:
+        add(Key(name, None, unit, help_, b, "fetdatasheet", "fet", f"datasheet.{name}"))
     for k in _meta_keys(BiasNetwork, "network", "network", "bipolar"):
         if k.name == "tol":  # one tolerance: top level or [network], for the network and rdeg/rfb
             add(Key("tol", None, "%", "Resistor tolerance, % (network resistors, rdeg, rfb) (default 0).",

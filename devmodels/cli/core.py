@@ -55,24 +55,27 @@ def model_cmd(bias_in: Inputs, as_json: JsonOpt = False) -> None:
     if as_json:
         emit_json(out)
         return
+    h = "hybrid_pi" in bias_in.datasheet  # beta, VA, rb, r_mu from the h-parameter set
     rows = [
         ["gm", format_si(m.gm, "S"), "IC / VT"],
         ["r_pi", format_si(m.r_pi, "Ω"), "beta / gm"],
-        ["ro", format_si(ro, "Ω") if ro else "open", "VA / IC"],
+        ["ro", format_si(ro, "Ω") if ro else "open", "VA / IC" + ("  (VA from hoe at h_at_ic)" if h else "")],
         ["C_pi", format_si(m.c_pi, "F"), "gm / (2 pi fT) - C_mu"],
         ["C_mu", format_si(m.c_mu, "F"), "Cob moved to the bias VCB" if "c_mu" in bias_in.datasheet else "given"],
-        ["rb", format_si(m.rb, "Ω"), "given"],
+        ["rb", format_si(m.rb, "Ω"), "from hie at h_at_ic, held" if h else "given"],
         ["f_beta", format_si(m.f_beta, "Hz") if m.f_beta else "unbounded", "1 / (2 pi r_pi (C_pi + C_mu))"],
         ["fT", format_si(m.ft, "Hz") if m.ft else "unbounded", "gm / (2 pi (C_pi + C_mu))"
          + ("; transit-time law at IC" if "ft" in bias_in.datasheet else "")],
         ["re", format_si(m.re, "Ω"), "alpha / gm  (T model)"],
         ["alpha", f"{m.alpha:.6g}", "beta / (beta + 1)  (T model)"],
-        ["beta", f"{bias.beta:.6g}", "given (hfe)" if bias.temp == bias_in.tref or bias_in.get("beta") is None
+        ["beta", f"{bias.beta:.6g}", "gm r_pi from hfe, hre at h_at_ic" + ("" if bias.temp == bias_in.tref else
+                                                                  ", moved to T (beta_tc)") if h else
+         "given (hfe)" if bias.temp == bias_in.tref or bias_in.get("beta") is None
          else f"given {bias_in.get('beta'):.6g} at {bias_in.tref:.2f} K, moved to T (beta_tc)"],
         ["VT", format_si(m.vt, "V"), "k T / q"],
     ]
     if not np.isinf(m.r_mu):
-        rows.append(["r_mu", format_si(m.r_mu, "Ω"), "given"])
+        rows.append(["r_mu", format_si(m.r_mu, "Ω"), "from hre at h_at_ic, moved as beta ro" if h else "given"])
     if m.rcx or m.rex:
         rows.append(["rcx / rex", f"{format_si(m.rcx, 'Ω')} / {format_si(m.rex, 'Ω')}", "given"])
     title = (f"Small-signal model: {bias.device}, IC = {format_si(ic, 'A')}, "

@@ -33,7 +33,8 @@ __all__ = ["Inputs", "bias_options", "MODEL_KEYS", "SPREAD_KEYS", "BIAS_KEYS", "
 # --- which keys each command takes --------------------------------------------------------------
 def MODEL_KEYS(k: Key) -> bool:
     """Bias-point commands: the device, bipolar and FET values, the stage, the ratings."""
-    return (k.table is None and k.panel in ("device", "bipolar", "fet", "stage", "rating", "datasheet")
+    return (k.table is None and k.panel in ("device", "bipolar", "fet", "stage", "rating", "datasheet",
+                                          "fetdatasheet")
             and k.name != "description")
 
 
@@ -226,6 +227,99 @@ class Inputs:
         if ("ft_at_vce" in v or "c_je" in v) and "ft_at_ic" not in v:
             name = "c_je" if "c_je" in v else "ft_at_vce"
             raise InputError(f"ft_at_ic: missing; {name} needs the test IC of ft")
+        h_set = ("hie", "hre", "hfe", "hoe")
+        if any(n in v for n in h_set + ("h_at_ic", "h_at_vce")):
+            for n in h_set:
+                if n not in v:
+                    raise InputError(f"{n}: missing; the h-parameter set needs hie, hre, hfe and hoe at h_at_ic")
+            if "h_at_ic" not in v:
+                raise InputError("h_at_ic: missing; give the test IC of the h-parameters (datasheet, e.g. 1mA)")
+            for other, what in (("beta", "hfe"), ("hfe_table", "hfe"), ("va", "hoe"), ("rb", "hie"),
+                                ("rmu", "hre")):
+                if other in v:
+                    raise InputError(f"{other}: given with the h-parameter set, which sets it (from {what} at "
+                                     f"h_at_ic); give one of them")
+            if self.has_network():
+                raise InputError("hfe: the h-parameter set is not yet usable with a [network] table (the network's "
+                                 "point depends on beta); give beta, va, rb")
+
+    def _h_elements(self):
+        """The hybrid-pi elements of the h-parameter set at its test IC (at tref), or None."""
+        if "hfe" not in self.values:
+            return None
+        from ..datasheet import hybrid_pi_from_h
+
+        v = self.values
+        return hybrid_pi_from_h(v["hie"], v["hre"], v["hfe"], v["hoe"], v["h_at_ic"], h_at_vce=v.get("h_at_vce"),
+                                temp=self.tref)
+
+    def _h_scaled(self, elements, ic: float, beta: float) -> dict:
+        """``beta``, ``va``, ``rb``, ``rmu`` of the bias point from the h-parameter set moved to ``ic``
+        (:func:`devmodels.datasheet.scale_hybrid_pi`), with its "given at X, used at Y" record."""
+        import math
+
+        from ..datasheet import scale_hybrid_pi
+
+        sc = scale_hybrid_pi(elements, ic, beta=beta, temp=self.get("temp", self.tref))
+        v = self.values
+        self._record("hybrid_pi", {
+            "given": {n: v[n] for n in ("hie", "hre", "hfe", "hoe")}, "at_ic": elements.ic,
+            "at_vce": v.get("h_at_vce"), "ic": ic,
+            "at_test": {"gm": elements.gm, "r_pi": elements.r_pi, "rb": elements.rb, "beta": elements.beta,
+                        "r_mu": None if math.isinf(elements.r_mu) else elements.r_mu,
+                        "ro": None if math.isinf(elements.ro) else elements.ro},
+            "used": {"gm": float(sc.gm), "r_pi": float(sc.r_pi), "rb": sc.rb, "beta": float(sc.beta),
+                     "r_mu": None if math.isinf(sc.r_mu) else float(sc.r_mu),
+                     "ro": None if math.isinf(sc.ro) else float(sc.ro),
+                     "va": None if math.isinf(sc.va) else sc.va},
+            "note": f"{elements.note}; {sc.note.removeprefix('hybrid-pi: ')}"})
+        return {"beta": float(sc.beta), "va": None if math.isinf(sc.va) else float(sc.va), "rb": float(sc.rb),
+                "rmu": None if math.isinf(sc.r_mu) else float(sc.r_mu)}
+
+    def _fet_datasheet(self, fields: dict) -> dict:
+        """``cgs``, ``cgd``, ``cdb`` from the datasheet Ciss, Crss, Coss (:func:`devmodels.datasheet.fet_capacitances`)
+        and the checks of yfs; ``{}`` when none is given.
+
+        Decisions: yfs sets the model's gm (moved to the bias ID by the square law); kn, which sets
+        the same gm a second time, is refused with it, and so is gamma (gmb follows the square-law
+        gm).  vov (MOSFET) or idss and vp (JFET) still describe the DC point (saturation, ID <= IDSS).
+        Ciss, Crss, Coss come as a set and replace cgs, cgd, cdb (Coss - Crss is the drain-source
+        capacitance, which the model holds as cdb)."""
+        v = self.values
+        out: dict = {}
+        if "yfs_at_id" in v and "yfs" not in v:
+            raise InputError("yfs_at_id: given without yfs (the datasheet value it belongs to)")
+        if "yfs" in v:
+            if "yfs_at_id" not in v:
+                raise InputError("yfs_at_id: missing; give the test ID of yfs (datasheet, e.g. 10mA)")
+            for other in ("kn", "gamma"):
+                if other in v:
+                    raise InputError(f"{other}: given with yfs, which sets gm (square law from its test ID); "
+                                     f"give one of them")
+            if self.family == "mosfet" and "vov" not in v:
+                raise InputError("vov: missing; with yfs give the overdrive vov (V) for the DC point "
+                                 "(gm comes from yfs)")
+            if self.family == "jfet" and "idss" in v and v["yfs_at_id"] > v["idss"]:
+                raise InputError(f"yfs_at_id: {v['yfs_at_id']:g} A is above idss = {v['idss']:g} A (a JFET's "
+                                 "drain current is at most IDSS)")
+        caps = ("ciss", "crss", "coss")
+        if "c_at_vds" in v and "ciss" not in v:
+            raise InputError("c_at_vds: given without ciss, crss, coss (the datasheet values it belongs to)")
+        if any(n in v for n in caps):
+            for n in caps:
+                if n not in v:
+                    raise InputError(f"{n}: missing; the datasheet capacitances come as ciss, crss and coss")
+            for other in ("cgs", "cgd", "cdb"):
+                if other in v:
+                    raise InputError(f"{other}: given with ciss, crss, coss, which set cgs, cgd and cdb; "
+                                     "give one of them")
+            from ..datasheet import fet_capacitances
+
+            c = fet_capacitances(v["ciss"], v["crss"], v["coss"], at_vds=v.get("c_at_vds"))
+            out.update(cgs=c.cgs, cgd=c.cgd, cdb=c.cds)
+            self._record("capacitances", {"given": {n: v[n] for n in caps}, "at_vds": c.at_vds,
+                                          "used": {"cgs": c.cgs, "cgd": c.cgd, "cdb": c.cds}, "note": c.note})
+        return out
 
     def _datasheet(self, ic: float, vce: float) -> dict:
         """``ft`` and ``cmu`` of the bias point from the datasheet values at their test conditions
@@ -442,7 +536,10 @@ class Inputs:
                 table = self.get("hfe_table")
                 if table is not None and "beta" in self.values:
                     raise InputError("hfe_table: give beta or hfe_table, not both")
-                if table is None:
+                h_elements = self._h_elements()
+                if h_elements is not None:  # found at tref, moved to temp like a given beta
+                    beta = self.beta_at_temp(float(h_elements.beta))
+                elif table is None:
                     self.require("beta", "current gain hFE, e.g. 100")
                     beta = self.beta_at_temp(fields["beta"])
                 else:  # the table is given at tref: every hFE moves to temp by the same factor
@@ -463,7 +560,7 @@ class Inputs:
                 if table is not None:
                     from ..datasheet import hfe_from_table
 
-                    h = hfe_from_table(table, fields["ic"])
+                    h = hfe_from_table(table, abs(fields["ic"]))  # a pnp's IC may be written negative
                     beta = float(h.beta)
                     self._record("beta", {"table": self.values["hfe_table"], "used": beta, "at_ic": fields["ic"],
                                           "temp": self.get("temp", self.tref), "tref": self.tref,
@@ -473,7 +570,9 @@ class Inputs:
                     for w in h.warnings:
                         warn(w)
                 fields["beta"] = beta
-                fields.update(self._datasheet(fields["ic"], fields["vce"]))
+                if h_elements is not None:
+                    fields.update(self._h_scaled(h_elements, abs(fields["ic"]), beta))
+                fields.update(self._datasheet(abs(fields["ic"]), abs(fields["vce"])))
                 bias = BipolarBias(device=self.device, **fields)
             if not self.has_network():
                 for w in rating_warnings(bias.power, bias.vce, 0.0, pmax=pmax, vceo=vceo):
@@ -487,7 +586,9 @@ class Inputs:
                 self.require("idss", "drain current at VGS = 0 in A, e.g. 8mA")
                 self.require("vp", "pinch-off voltage in V, e.g. -2V")
             cls = MosfetBias if fam == "mosfet" else JfetBias
-            bias = cls(device=self.device, **self._fields(cls))
+            fields = self._fields(cls)
+            fields.update(self._fet_datasheet(fields))
+            bias = cls(device=self.device, **fields)
             if self.has_network():
                 self._stage_network()  # the FET network's AC values, checked by every command
             for w in rating_warnings(bias.id * bias.vds, 0.0, 0.0, pmax=pmax, vceo=None):
@@ -506,7 +607,17 @@ class Inputs:
             else:
                 from ..fet import FetModel
 
-                self._model = FetModel.from_bias(bias)
+                model = FetModel.from_bias(bias)
+                if "yfs" in self.values:
+                    import dataclasses
+
+                    from ..datasheet import gm_from_yfs
+
+                    g = gm_from_yfs(self.values["yfs"], self.values["yfs_at_id"], abs(bias.id))
+                    model = dataclasses.replace(model, gm=float(g.gm))
+                    self._record("gm", {"given": g.yfs, "at_id": g.yfs_at_id, "used": float(g.gm),
+                                        "id": float(g.id), "note": g.note})
+                self._model = model
         return self._model
 
     def configs(self) -> tuple[str, ...]:
