@@ -24,7 +24,7 @@ from .exceptions import InputError
 from .units import Bounds, check_bounds, parse_quantity, parse_temperature, shown, temperature_warning, type_name
 
 __all__ = ["Key", "DEVICES", "FAMILY", "PANELS", "TABLES", "keys", "flat_keys", "table_keys", "merge",
-           "nearest", "STAGE_NETWORK", "DATASHEET", "FET_DATASHEET", "MAX_POINTS", "MAX_SAMPLES", "FREQ", "Z0",
+           "nearest", "STAGE_NETWORK", "DATASHEET", "FET_DATASHEET", "MAX_POINTS", "MAX_STREAMED_POINTS", "MAX_SAMPLES", "FREQ", "Z0",
            "IMPEDANCE"]
 
 #: Every device type and its family ("bipolar", "mosfet", "jfet").
@@ -61,6 +61,10 @@ def _memory_bytes() -> int:
 #: about 2 kB per sweep point (the parameters, their conversion and the JSON or table text) and
 #: 400 bytes per spread sample (README: peak about 130 bytes per sample, kept with margin).
 MAX_POINTS = max(1000, _memory_bytes() // 4 // 2048)
+#: Largest sweep written to a file without --json or --plot: such a sweep is computed and written
+#: block by block (devmodels.sweeping.sweep_stream), measured at about 15 bytes per point beside a
+#: fixed 70 MB; a quarter of the memory at 64 bytes per point keeps a margin of four.
+MAX_STREAMED_POINTS = max(MAX_POINTS, _memory_bytes() // 4 // 64)
 MAX_SAMPLES = max(1000, _memory_bytes() // 4 // 400)
 
 

@@ -341,3 +341,16 @@ def test_sweep_streamed_shows_the_same_table_as_the_whole_sweep(run, tmp_path, c
         table = capsys.readouterr().out
         assert len(table.splitlines()) >= len(tp) and shown.startswith(table)
         assert ("(showing 21 of 3001 points" in shown) == (n > 41)
+
+
+def test_streamed_sweep_has_its_own_larger_limit(run):
+    # A sweep written to a file without --json or --plot is computed block by block, so it may
+    # hold more points than one kept whole (devmodels.schema.MAX_STREAMED_POINTS vs MAX_POINTS).
+    from devmodels.schema import MAX_POINTS, MAX_STREAMED_POINTS
+
+    assert MAX_STREAMED_POINTS > MAX_POINTS
+    too_many = str(MAX_POINTS + 1)
+    code, _, err = run("sweep", *BIAS, "-n", too_many, "--json")
+    assert code == 2 and err.startswith("devmodels: error: points:")
+    code, _, err = run("sweep", *BIAS, "-n", str(MAX_STREAMED_POINTS + 1), "--out", "x.s2p")
+    assert code == 2 and err.startswith("devmodels: error: points:")

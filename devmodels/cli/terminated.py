@@ -12,11 +12,11 @@ import numpy as np
 import typer
 
 from ..exceptions import InputError
-from ..schema import MAX_POINTS
+from ..schema import MAX_POINTS, MAX_STREAMED_POINTS
 from ..units import format_si, shown
 from .app import command
-from .inputs import (Inputs, bias_options, check_config, check_kind, parse_freq, parse_freqs, parse_points,
-                     parse_z0, terminations, two_port_input)
+from .inputs import (Inputs, bias_options, check_config, check_kind, parse_freq, parse_freqs, parse_z0,
+                     terminations, two_port_input)
 from .options import (ConfigOpt, FreqOpt, JsonOpt, OneFreqOpt, ParamsOpt, PlotOpt, PolarOpt, RlOpt, RsOpt,
                       TouchstoneOpt, Z0Opt)
 from .render import (stdout, db_text, emit_json, gain_text, imp_text, jsonable, msg_text, note, point_json, print_gain,
@@ -163,10 +163,12 @@ def _compare_plot(path: Path, stages: dict, zs, zl, z0v) -> None:
 
 
 # --- sweep -------------------------------------------------------------------------------
-def _sweep_freqs(start: str, stop: str, points: str) -> np.ndarray:
+def _sweep_freqs(start: str, stop: str, points: str, limit: int = MAX_POINTS) -> np.ndarray:
     f0 = parse_freq(start, "start")
     f1 = parse_freq(stop, "stop")
-    n = parse_points(points)
+    from ..units import parse_count
+
+    n = parse_count(points, "points", limit)
     if f0 <= 0:
         raise InputError(f"start: expected a frequency > 0 Hz for a log sweep, got {shown(start)}")
     if f1 < f0 or (f1 == f0 and n > 1):
@@ -196,7 +198,9 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
               stop: Annotated[str, typer.Option("--stop", help="Last frequency, Hz.", metavar="HZ")] = "10GHz",
               points: Annotated[str, typer.Option(
                   "--points", "-n", help=f"Number of points, log spaced (e.g. 201, 1e6); at most {MAX_POINTS:.3g} "
-                                         "(a quarter of this computer's memory).", metavar="COUNT")] = "101",
+                                         f"with --json or --plot, {MAX_STREAMED_POINTS:.3g} otherwise (the "
+                                         "sweep is then written block by block; limits from this computer's "
+                                         "memory).", metavar="COUNT")] = "101",
               z0: Z0Opt = "50", rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT_RL,
               out: Annotated[Optional[Path], typer.Option(
                   "--out", "-o", help="Write the parameters to FILE: .s2p (Touchstone 1.1; .y2p, .z2p, .h2p, "
@@ -225,7 +229,7 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
         from ..export import number_format
 
         fmt = number_format(fmt.strip().lower()).lower()
-    f = _sweep_freqs(start, stop, points)
+    f = _sweep_freqs(start, stop, points, MAX_POINTS if (plot is not None or as_json) else MAX_STREAMED_POINTS)
     zs, zl = terminations(rs, rl)
     z0v = parse_z0(z0)
     if out is not None:
