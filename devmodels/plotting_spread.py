@@ -110,10 +110,5 @@ def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
 
 
 def _limits_text(setup, ranges) -> str:
-    """The limits in one line for the title."""
-    if hasattr(ranges, "beta_min"):
-        return (f"beta {ranges.beta_min:g}..{ranges.beta_max:g}, T {ranges.temp_min:.1f}..{ranges.temp_max:.1f} K, "
-                f"resistors ±{ranges.tol * 100:g} %")
-    parts = [f"{n} {lo:.3g}" + ("" if lo == hi else f"..{hi:.3g}") for n, (lo, hi) in setup.limits(ranges).items()
-             if n not in setup.resistors]
-    return ", ".join(parts) + (f", resistors ±{ranges.tol * 100:g} %" if ranges.tol > 0 else "")
+    """The limits in one line for the title (the setup says what they are)."""
+    return setup.describe(ranges)["limits_text"]

@@ -182,6 +182,21 @@ class SpreadSetup:
         return out | _stage_resistors(self)
 
     # --- what run_spread asks of a setup (the FET setup answers the same questions) -------------
+    def describe(self, ranges: "SpreadRanges") -> dict:
+        """What a report needs to say about this spread: the bias in words (``bias``), the
+        bias for JSON (``bias_json``: ``network``) and the limits (``ranges``, ``limits_text``)."""
+        from .units import format_si
+
+        bias = (f"{self.network.kind} bias" if self.network is not None else
+                f"IC = {format_si(self.ic, 'A')}, VCE = {format_si(self.vce, 'V')}")
+        r = ranges
+        return {"bias": bias, "bias_json": {"network": None if self.network is None else self.network.kind},
+                "ranges": {"beta_min": r.beta_min, "beta_max": r.beta_max, "beta_typ": r.beta_typ,
+                           "temp_min": r.temp_min, "temp_max": r.temp_max, "tol": r.tol * 100},
+                "limits_text": (f"beta {r.beta_min:g}..{r.beta_max:g} at {self.t_ref:.2f} K "
+                                f"({'uniform' if r.beta_typ is None else f'triangular, typ {r.beta_typ:g}'}), "
+                                f"T {r.temp_min:.2f}..{r.temp_max:.2f} K, resistors ±{r.tol * 100:g} % (uniform)")}
+
     @property
     def results(self) -> tuple[str, ...]:
         """The results of this spread: :data:`RESULTS`."""
@@ -493,6 +508,32 @@ class FetSpreadSetup:
         """Nominal values of the toleranced resistors, ohm (``rdeg``, ``rfb`` when present)."""
         return _stage_resistors(self)
 
+    def describe(self, ranges: "FetSpreadRanges") -> dict:
+        """As :meth:`SpreadSetup.describe`: the fixed ID/VDS and the FET limits of ``ranges``."""
+        lim = self.limits(ranges)
+        rng: dict = {}
+        for name in ("idss", "vp", "kn", "vov", "lambda"):
+            if name in lim:
+                rng[f"{name}_min"], rng[f"{name}_max"] = lim[name]
+        rng["tol"] = ranges.tol * 100
+        from .units import format_si
+
+        unit = {"idss": "A", "vp": "V", "kn": "A/V²", "vov": "V", "lambda": "1/V"}
+
+        def val(n, v):
+            return f"{v:g} 1/V" if n == "lambda" else format_si(v, unit[n])
+
+        parts = [f"{n} {val(n, lo)}" + ("" if lo == hi else f"..{val(n, hi)}") for n, (lo, hi) in lim.items()
+                 if n in unit]
+        text = ", ".join(parts) + " (uniform)"
+        if ranges.tol > 0 and self.resistors:
+            text += f", {', '.join(self.resistors)} ±{ranges.tol * 100:g} % (uniform)"
+        from .units import format_si
+
+        return {"bias": f"{self.device}, ID = {format_si(self.id, 'A')}, VDS = {format_si(self.vds, 'V')}",
+                "bias_json": {"network": None, "id": self.id, "vds": self.vds}, "ranges": rng,
+                "limits_text": text}
+
     @property
     def results(self) -> tuple[str, ...]:
         """The results of this spread: :data:`FET_RESULTS`."""
@@ -564,8 +605,8 @@ class FetSpreadSetup:
         return out
 
     def _check_ranges(self, ranges) -> None:
-        if not isinstance(ranges, FetSpreadRanges):
-            raise InputError(f"ranges: a FET spread takes FetSpreadRanges, got {type(ranges).__name__}")
+        if type(ranges) is not self.ranges_class:
+            raise InputError(f"ranges: this spread takes {self.ranges_class.__name__}, got {type(ranges).__name__}")
         r = ranges
         if self.is_jfet:
             for name in ("idss", "vp"):
@@ -614,6 +655,8 @@ class FetSpreadSetup:
         return worst_case(self, ranges)
 
     _region_names = ("saturation",)
+    #: The ranges this setup takes.
+    ranges_class = FetSpreadRanges
     _track_max = ()
 
     def _warnings(self, n: int, counts: np.ndarray, maxima: dict) -> list[str]:

@@ -310,32 +310,14 @@ _METHODS: dict[str, tuple[str, str]] = {
 }
 
 
-def _ranges_json(setup, r) -> dict[str, Any]:
-    from ..spread import FetSpreadRanges
-
-    if isinstance(r, FetSpreadRanges):
-        lim = setup.limits(r)
-        out: dict[str, Any] = {}
-        for name in ("idss", "vp", "kn", "vov", "lambda"):
-            if name in lim:
-                out[f"{name}_min"], out[f"{name}_max"] = lim[name]
-        return out | {"tol": r.tol * 100}
-    return {"beta_min": r.beta_min, "beta_max": r.beta_max, "beta_typ": r.beta_typ,
-            "temp_min": r.temp_min, "temp_max": r.temp_max, "tol": r.tol * 100}
-
-
 def _spread_json(result, plot: Path | None) -> dict[str, Any]:
-    from ..spread import FetSpreadSetup
-
     s = result.setup
+    d = s.describe(result.ranges)
     out = result.as_dict()
-    fet = isinstance(s, FetSpreadSetup)
     out.update({
         "config": s.config, "freq": s.freq, "rs": zjson(complex(s.rs)), "rl": zjson(complex(s.rl)),
-        "network": None if fet or s.network is None else s.network.kind, "device": s.device,
-        "ranges": _ranges_json(s, result.ranges), "plot": None if plot is None else str(plot)})
-    if fet:
-        out.update({"id": s.id, "vds": s.vds})
+        "device": s.device, "ranges": d["ranges"], "plot": None if plot is None else str(plot)})
+    out.update(d["bias_json"])
     return out
 
 
@@ -363,13 +345,8 @@ def _yield_text(y: dict, samples: int) -> str:
 
 
 def _print_spread(result) -> None:
-    from ..spread import FetSpreadSetup
-
     s, r = result.setup, result.ranges
-    fet = isinstance(s, FetSpreadSetup)
-    where = (f"{s.device}, ID = {format_si(s.id, 'A')}, VDS = {format_si(s.vds, 'V')}" if fet else
-             (f"{s.network.kind} bias" if s.network is not None else
-              f"IC = {format_si(s.ic, 'A')}, VCE = {format_si(s.vce, 'V')}"))
+    where = s.describe(r)["bias"]
     title = (f"Spread of a {s.config.upper()} stage ({where}) at {format_si(s.freq, 'Hz')}, Rs = "
              f"{zstr(complex(s.rs))}, RL = {zstr(complex(s.rl))}: {result.samples:,} samples, seed {result.seed}")
     worst = result.worst or {}
@@ -388,26 +365,12 @@ def _print_spread(result) -> None:
             used.add(w["method"])
             wv = [_fmt(w["worst_min"], unit) + mark, _fmt(w["worst_max"], unit) + mark]
         rows.append([label] + vals + wv)
-    if fet:
-        lim = s.limits(r)
-        unit = {"idss": "A", "vp": "V", "kn": "A/V²", "vov": "V", "lambda": "1/V"}
-        def val(n, v):
-            return f"{v:g} 1/V" if n == "lambda" else format_si(v, unit[n])
-
-        parts = [f"{n} {val(n, lo)}" + ("" if lo == hi else f"..{val(n, hi)}") for n, (lo, hi) in lim.items()
-                 if n in unit]
-        limits_text = ", ".join(parts) + " (uniform)"
-        if r.tol > 0 and s.resistors:
-            limits_text += f", {', '.join(s.resistors)} ±{r.tol * 100:g} % (uniform)"
-    else:
-        dist = "uniform" if r.beta_typ is None else f"triangular, typ {r.beta_typ:g}"
-        limits_text = (f"beta {r.beta_min:g}..{r.beta_max:g} at {s.t_ref:.2f} K ({dist}), "
-                       f"T {r.temp_min:.2f}..{r.temp_max:.2f} K, resistors ±{r.tol * 100:g} % (uniform)")
+    limits_text = s.describe(r)["limits_text"]
     foot = " ".join(f"Worst {'values' if not mark else f'values marked {mark}'}: {text}."
                     for m, (mark, text) in _METHODS.items() if m in used)
     caption = (f"Limits: {limits_text}. min .. max and the percentiles are over the samples; worst min / worst "
                f"max are the extremes over the box of limits (worst_min_at / worst_max_at in --json). {foot}")
-    if not fet:
+    if len(result.regions) > 1:
         caption += (" Samples per region: " + ", ".join(f"{k} {v:,}" for k, v in result.regions.items())
                     + ". Statistics over samples in the active region.")
     if result.yield_ is not None:

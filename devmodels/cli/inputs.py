@@ -607,10 +607,13 @@ class Inputs:
             else:
                 from ..fet import FetModel
 
-                model = FetModel.from_bias(bias)
-                if "yfs" in self.values:
-                    import dataclasses
+                import dataclasses
 
+                model = FetModel.from_bias(bias)
+                temp = self.get("temp")
+                if temp is not None:  # the device (and its noise) at the junction temperature
+                    model = dataclasses.replace(model, temp=temp)
+                if "yfs" in self.values:
                     from ..datasheet import gm_from_yfs
 
                     g = gm_from_yfs(self.values["yfs"], self.values["yfs_at_id"], abs(bias.id))

@@ -85,10 +85,6 @@ def _stage_noise(bias_in: Inputs, config: str | None, freq: np.ndarray, flicker:
                          "or --touchstone")
     stage = bias_in.stage(check_config(config) if config is not None else None)
     changes = {}
-    temp = bias_in.get("temp")
-    if bias_in.family != "bipolar" and temp is not None and hasattr(stage.model, "temp"):
-        # FetModel.from_bias leaves the model at its default 300 K; its noise is at --temp
-        changes["temp"] = temp
     if flicker is not None:
         changes["flicker_corner"] = flicker
     if gamma_n is not None:
