@@ -29,7 +29,7 @@ from .models import HybridPi, TModel
 from .stage import Stage, stage_two_port
 from .twoport import TwoPort
 
-__version__ = "0.1.0"
+__version__ = "0.2.0"
 
 __all__ = [
     "BipolarBias", "HybridPi", "TModel", "Stage", "stage_two_port", "TwoPort", "convert",

@@ -10,7 +10,7 @@ corner, the device capacitances the high one.  :func:`band_edges` returns
     the device capacitances left out): the reference of both corners.
 ``f_low``, ``f_high``
     The exact corners: where :math:`|a_{vs}(f)| = |a_{vs,mid}|/\sqrt 2`, found by a bracketed
-    root search on the response (:func:`devmodels.merit.crossing`: a vectorised coarse log
+    root search on the response (:func:`devmodels.search.crossing`: a vectorised coarse log
     grid, then refinement to 1e-12 in ln f), not read off a sweep grid.
 ``f_low_sctc``
     The short-circuit time-constant estimate of the low corner,
@@ -81,7 +81,7 @@ import numpy as np
 
 from .configs import CONFIG_TERMINALS, config_y
 from .exceptions import InputError, SingularParameterError
-from .merit import crossing
+from .search import crossing
 from .netlist import Netlist, reduce_to, resistor
 from .stage import Stage
 from .stagenetwork import CAPACITORS

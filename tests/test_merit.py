@@ -8,7 +8,8 @@ import numpy as np
 import pytest
 
 import devmodels as dm
-from devmodels.merit import bandwidth, crossing, frequency_figures, miller_bandwidth
+from devmodels.merit import bandwidth, frequency_figures, miller_bandwidth
+from devmodels.search import crossing
 
 
 def model(**kw):
