@@ -341,10 +341,15 @@ def design_bias(network: str, vcc: float, ic: float, *, beta_min: float, beta_ma
                                 ve_fraction=ve_fraction, divider_factor=divider_factor)
     for name, x in ideal.items():
         if not r_min <= x <= r_max:
+            # every ideal value is inversely proportional to the target IC (the voltages do not
+            # depend on it): the reachable targets follow from the values at this one
+            lo, hi = max(ideal.values()) * ic / r_max, min(ideal.values()) * ic / r_min
+            reach = (f" (the resistor range allows targets from {format_si(lo, 'A')} to {format_si(hi, 'A')} "
+                     "here)") if lo <= hi else ""
             raise InputError(
                 f"ic: the target {format_si(ic, 'A')} needs {name} = {format_si(x, 'ohm')}, outside the "
                 f"resistor range {format_si(r_min, 'ohm')} .. {format_si(r_max, 'ohm')}; no {series} value "
-                "can reach it")
+                f"can reach it{reach}")
 
     # every combination of candidates, flattened: (M,) per resistor
     names = list(ideal)

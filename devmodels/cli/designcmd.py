@@ -108,15 +108,8 @@ def design_cmd(
     kwargs = {name: bias_in.get(name) for name in ("temp", "temp_min", "temp_max", "vbe", "vbe_tc", "beta_tc",
                                                    "vce_sat")}
     kwargs = {k: v for k, v in kwargs.items() if v is not None}
-    try:
-        design = design_bias(kind, v_cc, i_c, beta_min=bmin, beta_max=bmax, beta=beta, series=series, vce=v_ce,
-                             tol=bias_in.get("tol", 0.0), **kwargs)
-    except InputError as exc:
-        rng = _reachable(kind, v_cc, bmin, bmax, beta, v_ce, kwargs) if str(exc).startswith("ic:") else None
-        if rng is None or rng[0] <= i_c <= rng[1]:
-            raise
-        raise InputError(f"{exc} (the resistor range allows targets from {format_si(rng[0], 'A')} to "
-                         f"{format_si(rng[1], 'A')} here)") from None
+    design = design_bias(kind, v_cc, i_c, beta_min=bmin, beta_max=bmax, beta=beta, series=series, vce=v_ce,
+                         tol=bias_in.get("tol", 0.0), **kwargs)
     if out is not None:
         from ..fileio import atomic_write_text
 
@@ -127,29 +120,6 @@ def design_cmd(
         _print_design(design, device)
     if out is not None:
         note(f"bias file written to {out}")
-
-
-def _reachable(kind, vcc, bmin, bmax, beta, vce, kw) -> tuple[float, float] | None:
-    """The targets IC (A) whose ideal resistors all lie in the library's resistor range, or None.
-
-    Every ideal value of :func:`devmodels.design.ideal_values` is inversely proportional to the
-    target IC (the voltages do not depend on it), so the range follows from the values at 1 A.
-    """
-    from ..design import R_MAX, R_MIN, ideal_values
-    from ..temperature import BETA_TC_DEFAULT, T_REF, VBE_DEFAULT, VBE_TC_DEFAULT, beta_at, vbe_at
-
-    try:
-        temp = kw.get("temp", T_REF)
-        btc, vtc = kw.get("beta_tc", BETA_TC_DEFAULT), kw.get("vbe_tc", VBE_TC_DEFAULT)
-        b_ref = 0.5 * (bmin + bmax) if beta is None else beta
-        low = min(beta_at(kw.get(t, temp), bmin, btc, T_REF) for t in ("temp_min", "temp_max"))
-        ideal, _ = ideal_values(kind, vcc, 1.0, beta_at(temp, b_ref, btc, T_REF),
-                                vbe_at(temp, kw.get("vbe", VBE_DEFAULT), vtc, T_REF), low, vce=vce,
-                                **({"vce_sat": kw["vce_sat"]} if "vce_sat" in kw else {}))
-    except (InputError, ArithmeticError, ValueError):
-        return None
-    lo, hi = max(ideal.values()) / R_MAX, min(ideal.values()) / R_MIN
-    return (lo, hi) if lo <= hi else None
 
 
 def _print_design(d, device: str) -> None:
