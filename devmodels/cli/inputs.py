@@ -163,6 +163,24 @@ class Inputs:
         self._model = None
         self._bias = None
 
+    def with_value(self, kid: str, value: float, *, quiet: bool = True) -> "Inputs":
+        """The same inputs with the key ``kid`` set to ``value`` (SI), as if given as an option.
+
+        The file and the options are merged again (the one merge), so every rule that depends on
+        the key applies; ``quiet`` keeps the datasheet notes out of table output (a trial value).
+        """
+        import copy
+
+        trial = copy.copy(self)
+        trial.json = True if quiet else self.json
+        trial.datasheet = {}
+        trial.values = merge({**self.options, kid: float(value)}, self.flat, self.tables)
+        if "temp" not in trial.values and "tref" in trial.values:
+            trial.values["temp"] = trial.values["tref"]
+        trial._model = None
+        trial._bias = None
+        return trial
+
     # -- raw access ---------------------------------------------------------------------------
     def given(self) -> bool:
         """True when any bias value was given at all."""

@@ -63,6 +63,17 @@ def flush_warnings() -> None:
         sys.stderr.write(f"devmodels: {kind}: {message}\n")
 
 
+class held_back:
+    """Within ``with held_back():`` warnings and notes are collected and then forgotten (the
+    trial values of a search say nothing; only the answer's own are written)."""
+
+    def __enter__(self) -> None:
+        self._saved = list(_pending)
+
+    def __exit__(self, *exc) -> None:
+        _pending[:] = self._saved
+
+
 def drop_warnings() -> None:
     """Forget the collected warnings (the command failed; its error line is all stderr shows)."""
     _pending.clear()

@@ -7,14 +7,13 @@ value by merging the inputs again with the varied key set to it, and shows the r
 
 from __future__ import annotations
 
-import copy
 import math
 from typing import Annotated, Optional
 
 import typer
 
 from ..exceptions import InputError
-from ..schema import keys, merge
+from ..schema import keys
 from ..units import format_si, parse_quantity, shown
 from .app import command
 from .inputs import MODEL_KEYS, Inputs, bias_options, check_config, parse_freq, terminations
@@ -72,18 +71,9 @@ def _parse_target(text: str) -> tuple[str, float]:
 
 def _trial_builder(bias_in: Inputs, kid: str, config: str | None):
     """``x -> Stage``: the inputs merged again with the key ``kid`` set to ``x`` (an option overrides the file)."""
-    options = dict(bias_in.options)
-
     def build(x: float, final: bool = False):
-        trial = copy.copy(bias_in)
-        trial.json = bias_in.json if final else True  # notes of datasheet values: the answer's only
-        trial.datasheet = {}
-        trial.values = merge({**options, kid: float(x)}, bias_in.flat, bias_in.tables)
-        if "temp" not in trial.values and "tref" in trial.values:
-            trial.values["temp"] = trial.values["tref"]
-        trial._model = None
-        trial._bias = None
-        return trial.stage(config)
+        # notes of datasheet values: the answer's only
+        return bias_in.with_value(kid, x, quiet=not final).stage(config)
 
     return build
 
@@ -123,9 +113,9 @@ def solve_cmd(bias_in: Inputs, vary: _VaryOpt = None, target: _TargetOpt = None,
     present = float(present) if isinstance(present, (int, float)) and present > 0 else None
     lo, hi = search_interval(key.unit, present)
     build = _trial_builder(bias_in, kid, cfg)
-    saved = list(render._pending)  # the trial values' warnings are not the answer's
     try:
-        sol = solve_target(build, result, goal, f, zs, zl, lo=lo, hi=hi, present=present)
+        with render.held_back():  # the trial values' warnings are not the answer's
+            sol = solve_target(build, result, goal, f, zs, zl, lo=lo, hi=hi, present=present)
     except UnreachableTarget as exc:
         vu, ru = _SHOWN_UNIT[key.unit], _SHOWN_UNIT[UNITS[result]]
         span = f"{key.name} from {format_si(lo, vu)} to {format_si(hi, vu)}"
@@ -134,8 +124,6 @@ def solve_cmd(bias_in: Inputs, vary: _VaryOpt = None, target: _TargetOpt = None,
         raise InputError(f"target: {result} = {format_si(goal, ru)} is not reachable by varying {span}; "
                          f"{result} ranges from {format_si(exc.reachable[0], ru)} to "
                          f"{format_si(exc.reachable[1], ru)} there") from None
-    finally:
-        render._pending[:] = saved
     build(sol.value, final=True)  # the warnings and notes of the solved value (ratings, datasheet values)
     part = nearest(sol.value, series)
     try:
