@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 
 import numpy as np
 import pytest
@@ -50,6 +51,24 @@ def assert_one_line_error(run, *args, match=None, prefix=None):
     if prefix:
         assert lines[0].startswith(f"devmodels: error: {prefix}"), lines[0]
     return lines[0]
+
+
+NAN_INF = re.compile(r"\b(nan|inf|infinity)\b", re.I)
+
+
+def check_error_rule(args, code: int, out: str, err: str, ok_codes=(0,)) -> None:
+    """The README's rule for a command run on any input: no traceback, no Python warning, no
+    internal error; exit 2 with exactly one ``devmodels: error:`` line on stderr and nothing on
+    stdout, or a clean run (an exit code in ``ok_codes``) that prints no nan or inf."""
+    where = f"devmodels {' '.join(map(str, args))}"
+    assert "Traceback" not in err and "Warning:" not in err and "internal error" not in err, (where, err)
+    if code == 2:
+        lines = err.strip().splitlines()
+        assert len(lines) == 1 and lines[0].startswith("devmodels: error: "), (where, err)
+        assert out == "", (where, out)
+    else:
+        assert code in ok_codes, (where, code, err)
+        assert not NAN_INF.search(out), (where, out)
 
 
 def cx(pair):
