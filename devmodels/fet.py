@@ -25,9 +25,41 @@ from .fetbias import FET_DEVICES, JfetBias, MosfetBias
 from .models import check_elements
 from .netlist import Netlist, capacitor, noise_current, optional, resistor, series_node, thermal_noise, vccs
 
-__all__ = ["FetModel"]
+__all__ = ["FetModel", "fet_values"]
 
 _INF = math.inf
+
+
+def fet_values(i_d, *, vov=None, kn=None, idss=None, vp=None, lambda_=None, gamma=None,
+               two_phi_f: float = 0.7, vsb: float = 0.0) -> dict:
+    """gm, gmb and ro at a drain current by the square laws (module docstring of :mod:`devmodels.fetbias`).
+
+    The one place these relations are written; scalars and arrays of samples alike.  A JFET is
+    given by ``idss`` and ``vp`` (gm = (2/|VP|) sqrt(ID IDSS), no body effect), a MOSFET by
+    ``vov`` (gm = 2 ID/Vov) or ``kn`` (gm = sqrt(2 kn ID)), with gmb = gamma gm /
+    (2 sqrt(2 phi_F + VSB)) when ``gamma`` is given.
+
+    Parameters
+    ----------
+    i_d : float or ndarray
+        Drain current magnitude in A.
+    vov, kn, idss, vp : float, ndarray or None
+        Overdrive (V), transconductance parameter (A/V^2), IDSS (A) and pinch-off voltage (V).
+    lambda_ : float, ndarray or None
+        Channel-length modulation in 1/V (None: ro infinite).
+    gamma : float or None
+        Body-effect coefficient in V^0.5 (None: no body effect).
+    two_phi_f, vsb : float
+        Surface potential 2 phi_F and source-body voltage in V.
+    """
+    if idss is not None:
+        gm = 2.0 / np.abs(vp) * np.sqrt(i_d * np.asarray(idss))
+        gmb = 0.0
+    else:
+        gm = np.sqrt(2.0 * np.asarray(kn) * i_d) if kn is not None else 2.0 * i_d / np.asarray(vov)
+        gmb = 0.0 if gamma is None else gamma * gm / (2 * math.sqrt(two_phi_f + vsb))
+    ro = _INF if lambda_ is None else 1.0 / (np.asarray(lambda_) * i_d)
+    return {"gm": gm, "gmb": gmb, "ro": ro}
 
 
 @dataclass(frozen=True, slots=True)
@@ -98,17 +130,15 @@ class FetModel:
     @classmethod
     def from_bias(cls, bias: MosfetBias | JfetBias) -> "FetModel":
         """Element values at a bias point (relations in the module docstring)."""
-        ro = _INF if bias.lambda_ is None else 1.0 / (bias.lambda_ * bias.id)
         if isinstance(bias, MosfetBias):
-            gm = 2 * bias.id / bias.vov
-            gmb = 0.0 if bias.gamma is None else bias.gamma * gm / (2 * math.sqrt(bias.two_phi_f + bias.vsb))
+            v = fet_values(bias.id, vov=bias.vov, lambda_=bias.lambda_, gamma=bias.gamma,
+                           two_phi_f=bias.two_phi_f, vsb=bias.vsb)
         elif isinstance(bias, JfetBias):
-            gm = 2.0 / abs(bias.vp) * math.sqrt(bias.id * bias.idss)
-            gmb = 0.0
+            v = fet_values(bias.id, idss=bias.idss, vp=bias.vp, lambda_=bias.lambda_)
         else:
             raise InputError(f"bias: expected a MosfetBias or a JfetBias, got {type(bias).__name__}")
-        return cls(gm=gm, gmb=gmb, ro=ro, cgs=bias.cgs, cgd=bias.cgd, csb=bias.csb, cdb=bias.cdb,
-                   rg=bias.rg, device=bias.device, vov=bias.vov)
+        return cls(gm=float(v["gm"]), gmb=float(v["gmb"]), ro=float(v["ro"]), cgs=bias.cgs, cgd=bias.cgd,
+                   csb=bias.csb, cdb=bias.cdb, rg=bias.rg, device=bias.device, vov=bias.vov)
 
     @property
     def temperature(self) -> float:

@@ -572,20 +572,17 @@ class FetSpreadSetup:
             :meth:`limits` over the whole box).
         """
         from .analysis import stability_arrays_y, terminate_arrays_y
-        from .fet import FetModel
+        from .fet import FetModel, fet_values
 
         n = np.asarray(next(iter(points.values()))).shape[0]
-        i_d = self.id
-        if self.is_jfet:
-            gm = 2.0 / points["vp"] * np.sqrt(i_d * points["idss"])
-        elif "kn" in points:
-            gm = np.sqrt(2.0 * points["kn"] * i_d)
-        else:
-            gm = 2.0 * i_d / points["vov"]
-        gm = np.broadcast_to(np.asarray(gm, dtype=float), (n,))
-        ro = 1.0 / (points["lambda"] * i_d) if "lambda" in points else math.inf
-        gmb = 0.0 if (self.gamma is None or self.is_jfet) else self.gamma * gm / (2 * math.sqrt(self.two_phi_f +
-                                                                                                self.vsb))
+        # the square laws of devmodels.fet.fet_values, on arrays of samples
+        law = ({"idss": points["idss"], "vp": points["vp"]} if self.is_jfet else
+               {"kn": points["kn"]} if "kn" in points else {"vov": points["vov"]})
+        v = fet_values(self.id, lambda_=points.get("lambda"), gamma=None if self.is_jfet else self.gamma,
+                       two_phi_f=self.two_phi_f, vsb=self.vsb, **law)
+        gm = np.broadcast_to(np.asarray(v["gm"], dtype=float), (n,))
+        gmb = v["gmb"] if np.ndim(v["gmb"]) == 0 else np.broadcast_to(v["gmb"], (n,))
+        ro = v["ro"]
         model = FetModel(gm=gm, gmb=gmb, ro=ro, cgs=self.cgs, cgd=self.cgd, csb=self.csb, cdb=self.cdb,
                          rg=self.rg, rdx=self.rdx, rsx=self.rsx, device=self.device)
         res = {name: nominal * np.asarray(points.get(name, 1.0), dtype=float)
