@@ -434,7 +434,10 @@ def sctc_terms(stage: Stage, zs=50.0, zl=1e3) -> tuple[TimeConstant, ...]:
     tuple of TimeConstant
         Largest 1/tau first; empty without such capacitors.
     """
+    from .models import without_leads
+
     rs, rl = _resistive(zs, zl)
+    stage = Stage(without_leads(stage.model), stage.config, stage.rdeg, stage.rfb, stage.network)
     net = stage.netlist()
     low = [e.name for e in net.elements if e.kind == "capacitor" and e.name in CAPACITORS]
     terms = _terms(net, stage, low, low, rs, rl)
@@ -456,9 +459,11 @@ def octc_terms(stage: Stage, zs=50.0, zl=1e3) -> tuple[TimeConstant, ...]:
     tuple of TimeConstant
         Largest tau first; empty without device capacitances.
     """
+    from .models import without_leads
+
     rs, rl = _resistive(zs, zl)
-    hf = stage if stage.network is None else Stage(stage.model, stage.config, stage.rdeg, stage.rfb,
-                                                       stage.network.shorted())
+    hf = Stage(without_leads(stage.model), stage.config, stage.rdeg, stage.rfb,
+               None if stage.network is None else stage.network.shorted())
     net = hf.netlist()
     device = [e.name for e in net.elements if e.kind == "capacitor" and e.name not in CAPACITORS]
     terms = _terms(net, hf, device, [], rs, rl)

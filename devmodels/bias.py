@@ -11,7 +11,12 @@ from dataclasses import dataclass, field
 from typing import Literal
 
 from .exceptions import BiasError, InputError
+from .units import UNITS, Unit
 from .validate import check_number as _finite, meta, p_type_magnitudes
+
+# The henry, for the lead inductances.  It belongs in units.UNITS beside every other unit (one
+# line there); registered here until it is, so the schema can parse "1.2nH".
+UNITS.setdefault("H", Unit(("H",), "HENRY", "H", "an inductance in H"))
 
 __all__ = ["BipolarBias", "DEFAULT_VCE_SAT", "DEFAULT_TEMP"]
 
@@ -53,6 +58,9 @@ class BipolarBias:
         Collector and emitter ohmic resistances in ohm.
     vce_sat : float
         VCE below which the point is taken to be saturated, in V.
+    l_b, l_c, l_e : float
+        Base, collector and emitter lead inductances in H, in series with each terminal
+        (0: none; see :mod:`devmodels.models`).
     """
 
     ic: float = field(metadata=meta("A", "Collector current, A (e.g. 1mA).", 1e-15, 100.0))
@@ -76,6 +84,12 @@ class BipolarBias:
     rex: float = field(default=0.0, metadata=meta("Ohm", "Emitter ohmic resistance, ohm (default 0).", 1e-6, 1e12))
     vce_sat: float = field(default=DEFAULT_VCE_SAT, metadata=meta(
         "V", "VCE below which the point counts as saturated, V (default 0.3 V).", 1e-6, 100.0))
+    l_b: float = field(default=0.0, metadata=meta(
+        "H", "Base lead inductance, H (e.g. 1.2nH), in series with the base terminal (default 0).", 1e-15, 1e-3))
+    l_c: float = field(default=0.0, metadata=meta(
+        "H", "Collector lead inductance, H, in series with the collector terminal (default 0).", 1e-15, 1e-3))
+    l_e: float = field(default=0.0, metadata=meta(
+        "H", "Emitter lead inductance, H, in series with the emitter terminal (default 0).", 1e-15, 1e-3))
 
     def __post_init__(self) -> None:
         if self.device not in ("npn", "pnp"):
@@ -100,9 +114,10 @@ class BipolarBias:
         rmu = _finite("rmu", self.rmu, "ohm", positive=True, optional=True)
         rcx = _finite("rcx", self.rcx, "ohm", nonneg=True)
         rex = _finite("rex", self.rex, "ohm", nonneg=True)
+        leads = {n: _finite(n, getattr(self, n), "H", nonneg=True) for n in ("l_b", "l_c", "l_e")}
         for name, v in (("ic", ic), ("vce", vce), ("beta", beta), ("va", va), ("ft", ft),
                         ("cmu", cmu), ("rb", rb), ("temp", temp), ("rmu", rmu), ("rcx", rcx),
-                        ("rex", rex), ("vce_sat", vce_sat)):
+                        ("rex", rex), ("vce_sat", vce_sat), *leads.items()):
             object.__setattr__(self, name, v)
 
     @property

@@ -238,6 +238,11 @@ class TransitTimeFit:
         Largest residual relative to 1/(2 pi fT) at its point (dimensionless).
     points : int
         Number of test points.
+    tau_f_unc, c_sum_unc : float or None
+        Standard uncertainties of tau_F (s) and C_je + C_mu (F) from the residual, s^2 (A^T A)^-1
+        with s^2 = sum r^2 / (points - unknowns) (the linear least-squares estimate, e.g. Press
+        et al., *Numerical Recipes*, ch. 15, from memory); ``None`` when there are no more points
+        than unknowns.  ``c_sum_unc`` is 0 when ``c_sum`` was given.
     """
 
     tau_f: float
@@ -245,6 +250,8 @@ class TransitTimeFit:
     residual: float
     rel_residual: float
     points: int
+    tau_f_unc: float | None = None
+    c_sum_unc: float | None = None
 
 
 def fit_transit_time(ft, ft_at_ic, temp=T_REF, *, c_sum=None) -> TransitTimeFit:
@@ -297,8 +304,18 @@ def fit_transit_time(ft, ft_at_ic, temp=T_REF, *, c_sum=None) -> TransitTimeFit:
                          f"{tau:g} s < 0" + ("" if c_sum is None else
                                              f" (c_je: {c:g} F with c_mu is too large)"))
     r = tau + c * vt / i - y
+    unknowns = 2 if c_sum is None else 1
+    tau_unc = c_unc = None
+    if f.size > unknowns:
+        s2 = float(r @ r) / (f.size - unknowns)
+        if c_sum is None:
+            cov = np.linalg.inv(a.T @ a) * s2
+            tau_unc, c_unc = float(np.sqrt(cov[0, 0])), float(np.sqrt(cov[1, 1]))
+        else:
+            tau_unc, c_unc = float(np.sqrt(s2 / f.size)), 0.0
     return TransitTimeFit(tau_f=float(tau), c_sum=float(c), residual=float(np.sqrt(np.mean(r ** 2))),
-                          rel_residual=float(np.max(np.abs(r) / y)), points=int(f.size))
+                          rel_residual=float(np.max(np.abs(r) / y)), points=int(f.size), tau_f_unc=tau_unc,
+                          c_sum_unc=c_unc)
 
 
 @dataclass(frozen=True, slots=True)

@@ -52,19 +52,22 @@ the indefinite admittance matrix, :func:`devmodels.configs.indefinite_from_y` th
    uncertainty is large, or on which the data hardly depend (a flat Jacobian column), are
    named in the warnings.
 
-3. **Bias consistency** (:func:`bias_consistency`, :func:`fit_transit_time`): the fitted gm
+3. **Bias consistency** (:func:`bias_consistency`, :func:`transit_time`): the fitted gm
    against IC/VT (ideality factor, excess emitter resistance), and tau_F and C_je + C_mu from
-   fT at several currents, :math:`1/(2\pi f_T) = \tau_F + (C_{je} + C_\mu) V_T / I_C`.
+   the fitted fT of several files at several currents,
+   :math:`1/(2\pi f_T) = \tau_F + (C_{je} + C_\mu) V_T / I_C`, by the one fit of that law,
+   :func:`devmodels.datasheet.fit_transit_time`.
 
 A FET measured in common source, gate or drain is fitted the same way with
 :class:`~devmodels.fet.FetModel`'s gm, cgs, cgd, ro and rg (the relations above with
 C_pi -> cgs, C_mu -> cgd, rb -> rg and no r_pi).
 
 Optional parasitics (off unless asked for): ``rex``, ``rcx`` (series emitter and collector
-resistances of :class:`HybridPi`; ``rsx``, ``rdx`` for a FET), ``c_pad_in`` (base to emitter
-terminal) and ``c_pad_out`` (collector to emitter terminal) pad capacitances, added to the
-same netlist.
-Lead inductances are not available (the netlist has no inductor element).
+resistances of :class:`HybridPi`; ``rsx``, ``rdx`` for a FET), the lead inductances ``l_b``,
+``l_c``, ``l_e`` (``l_g``, ``l_d``, ``l_s`` for a FET) in series with each terminal outside
+those resistances, ``c_pad_in`` (base to emitter terminal) and ``c_pad_out`` (collector to
+emitter terminal) pad capacitances, all in the same netlist.  An inductor's Jacobian column
+is d(1/(jωL))/d ln L = -1/(jωL), stamped like the others.
 
 scipy and matplotlib are imported inside the functions that need them.
 """
@@ -85,30 +88,38 @@ from .netlist import Netlist, capacitor, reduce_to, stamp
 from .twoport import TwoPort
 
 __all__ = ["DirectEstimate", "ExtractionResult", "direct_estimates", "extract", "model_y", "bias_consistency",
-           "fit_transit_time", "bias_toml", "plot_fit", "BASE_ELEMENTS", "PARASITICS", "FET_BASE_ELEMENTS",
+           "transit_time", "bias_toml", "plot_fit", "BASE_ELEMENTS", "PARASITICS", "FET_BASE_ELEMENTS",
            "FET_PARASITICS", "BOUNDS", "ExtractionWarning"]
 
 #: The elements always fitted (the interface's JSON keys).
 BASE_ELEMENTS: tuple[str, ...] = ("gm", "r_pi", "c_pi", "c_mu", "rb", "ro")
-#: Optional parasitics: series emitter / collector resistance (ohm), pad capacitances (F).
-PARASITICS: tuple[str, ...] = ("rex", "rcx", "c_pad_in", "c_pad_out")
+#: Optional parasitics: series emitter / collector resistance (ohm), pad capacitances (F), lead
+#: inductances (H).
+PARASITICS: tuple[str, ...] = ("rex", "rcx", "c_pad_in", "c_pad_out", "l_b", "l_c", "l_e")
 #: The elements fitted for a FET (common source, gate or drain data): :class:`~devmodels.fet.FetModel`'s
 #: gm (S), cgs, cgd (F), ro, rg (ohm).
 FET_BASE_ELEMENTS: tuple[str, ...] = ("gm", "cgs", "cgd", "ro", "rg")
-#: Optional FET parasitics: drain and source ohmic resistances (ohm), pad capacitances (F).
-FET_PARASITICS: tuple[str, ...] = ("rdx", "rsx", "c_pad_in", "c_pad_out")
+#: Optional FET parasitics: drain and source ohmic resistances (ohm), pad capacitances (F), lead
+#: inductances (H).
+FET_PARASITICS: tuple[str, ...] = ("rdx", "rsx", "c_pad_in", "c_pad_out", "l_g", "l_d", "l_s")
 #: Physical bounds of each element in SI units (the fit stays inside them).
 BOUNDS: dict[str, tuple[float, float]] = {
     "gm": (1e-7, 1e3), "r_pi": (1e-2, 1e10), "c_pi": (1e-19, 1e-6), "c_mu": (1e-19, 1e-6),
     "rb": (1e-4, 1e6), "ro": (1e-1, 1e13), "rex": (1e-5, 1e4), "rcx": (1e-5, 1e4),
     "c_pad_in": (1e-19, 1e-6), "c_pad_out": (1e-19, 1e-6),
     "cgs": (1e-19, 1e-6), "cgd": (1e-19, 1e-6), "rg": (1e-4, 1e6), "rdx": (1e-5, 1e4), "rsx": (1e-5, 1e4),
+    "l_b": (1e-15, 1e-6), "l_c": (1e-15, 1e-6), "l_e": (1e-15, 1e-6),
+    "l_g": (1e-15, 1e-6), "l_d": (1e-15, 1e-6), "l_s": (1e-15, 1e-6),
 }
 _UNITS = {"gm": "S", "r_pi": "ohm", "c_pi": "F", "c_mu": "F", "rb": "ohm", "ro": "ohm", "rex": "ohm",
           "rcx": "ohm", "c_pad_in": "F", "c_pad_out": "F", "cgs": "F", "cgd": "F", "rg": "ohm", "rdx": "ohm",
-          "rsx": "ohm"}
+          "rsx": "ohm", "l_b": "H", "l_c": "H", "l_e": "H", "l_g": "H", "l_d": "H", "l_s": "H"}
 #: Start values of the parasitics when asked for.
-_PARASITIC_START = {"rex": 1.0, "rcx": 1.0, "rdx": 1.0, "rsx": 1.0, "c_pad_in": 1e-14, "c_pad_out": 1e-14}
+_PARASITIC_START = {"rex": 1.0, "rcx": 1.0, "rdx": 1.0, "rsx": 1.0, "c_pad_in": 1e-14, "c_pad_out": 1e-14,
+                    "l_b": 1e-10, "l_c": 1e-10, "l_e": 1e-10, "l_g": 1e-10, "l_d": 1e-10, "l_s": 1e-10}
+#: The lead inductances of the bipolar model, and of the FET model (fields of the same names).
+_LEADS = ("l_b", "l_c", "l_e")
+_FET_LEADS = ("l_g", "l_d", "l_s")
 #: Per device family: elements, parasitics, terminals (port order of the indefinite matrix), configurations.
 _FAMILIES = {
     "bjt": (BASE_ELEMENTS, PARASITICS, ("b", "c", "e"), BJT_CONFIGS),
@@ -233,11 +244,18 @@ class ExtractionResult:
             from .fet import FetModel
 
             return FetModel(gm=e["gm"], ro=e["ro"], cgs=e["cgs"], cgd=e["cgd"], rg=e["rg"], rdx=e.get("rdx", 0.0),
-                            rsx=e.get("rsx", 0.0))
+                            rsx=e.get("rsx", 0.0), **{k: e[k] for k in _FET_LEADS if k in e})
         from .models import HybridPi
 
         return HybridPi(gm=e["gm"], r_pi=e["r_pi"], ro=e["ro"], c_pi=e["c_pi"], c_mu=e["c_mu"], rb=e["rb"],
-                        rcx=e.get("rcx", 0.0), rex=e.get("rex", 0.0))
+                        rcx=e.get("rcx", 0.0), rex=e.get("rex", 0.0), **{k: e[k] for k in _LEADS if k in e})
+
+    @property
+    def ft(self) -> float:
+        """fT of the fitted intrinsic elements, gm / (2 pi (C_pi + C_mu)) in Hz (cgs, cgd for a FET)."""
+        e = self.elements
+        c = e["cgs"] + e["cgd"] if "cgs" in e else e["c_pi"] + e["c_mu"]
+        return e["gm"] / (2 * math.pi * c)
 
     def s_fit(self) -> TwoPort:
         """Fitted S parameters at the measured reference resistances."""
@@ -396,13 +414,14 @@ def _netlist(values: dict, family: str = "bjt") -> Netlist:
         from .fet import FetModel
 
         model = FetModel(gm=values["gm"], ro=values["ro"], cgs=values["cgs"], cgd=values["cgd"], rg=values["rg"],
-                         rdx=values.get("rdx", 0.0), rsx=values.get("rsx", 0.0))
+                         rdx=values.get("rdx", 0.0), rsx=values.get("rsx", 0.0),
+                         **{k: values[k] for k in _FET_LEADS if k in values})
     else:
         from .models import HybridPi
 
         model = HybridPi(gm=values["gm"], r_pi=values["r_pi"], ro=values["ro"], c_pi=values["c_pi"],
                          c_mu=values["c_mu"], rb=values["rb"], rcx=values.get("rcx", 0.0),
-                         rex=values.get("rex", 0.0))
+                         rex=values.get("rex", 0.0), **{k: values[k] for k in _LEADS if k in values})
     net = model.netlist()
     t_in, t_out, t_common = model.terminals
     pads = []
@@ -459,6 +478,8 @@ def _sensitivities(values: dict, names, omega: np.ndarray, family: str = "bjt") 
             dy = np.broadcast_to(-1.0 / el.value, (F,))
         elif el.kind == "capacitor":
             dy = jw * el.value
+        elif el.kind == "inductor":
+            dy = -1.0 / (jw * el.value)
         else:
             dy = np.broadcast_to(el.value, (F,))
         a, b = idx[el.nodes[0]], idx[el.nodes[1]]
@@ -717,43 +738,60 @@ def bias_consistency(gm: float, ic: float, temp: float = 300.0) -> dict:
     return {"gm_ideal": ideal, "ratio": gm / ideal, "ideality": ideal / gm, "re_excess": 1.0 / gm - vt / ic}
 
 
-def fit_transit_time(ic, ft, temp: float = 300.0) -> dict:
-    """tau_F and C_je + C_mu from fT at several collector currents.
+def transit_time(results, ic, temp: float = 300.0) -> dict:
+    r"""tau_F and C_je from fits of files measured at several collector currents.
 
-    Fits the straight line 1/(2 pi fT) = tau_F + (C_je + C_mu) VT / IC (intercept tau_F,
-    slope C_je + C_mu) by least squares (Gray, Hurst, Lewis and Meyer, ch. 1; from memory).
+    Each fit's fT (:attr:`ExtractionResult.ft`, gm / (2 pi (C_pi + C_mu)) of its elements) and
+    its IC go to :func:`devmodels.datasheet.fit_transit_time`, the one fit of
+    :math:`1/(2\pi f_T) = \tau_F + (C_{je} + C_\mu) V_T / I_C` (Gray, Hurst, Lewis and Meyer,
+    ch. 1; from memory).  C_je is the fitted sum less the mean fitted C_mu (the files are
+    taken at one VCE, so C_mu is one value).
 
     Parameters
     ----------
-    ic : array_like
-        Collector currents in A (at least two different ones).
-    ft : array_like
-        Transition frequencies in Hz at those currents.
+    results : sequence of ExtractionResult
+        Bipolar fits (ce, cb or cc), one per file.
+    ic : sequence of float
+        Collector current of each file in A, in the same order (at least two different ones).
     temp : float
-        Temperature in K.
+        Temperature of the measurements in K.
 
     Returns
     -------
     dict
-        ``tau_f`` (s), ``c_total`` (F, C_je + C_mu) and their standard uncertainties
-        ``tau_f_unc``, ``c_total_unc`` (``None`` with two points: no residual to estimate them).
+        ``tau_f`` (s), ``c_total`` (F, C_je + C_mu), ``c_mu`` (F, mean fitted), ``c_je`` (F),
+        their standard uncertainties ``tau_f_unc``, ``c_total_unc``, ``c_je_unc`` (that of
+        ``c_total``: the fitted C_mu's own is far smaller; ``None`` with two points: no
+        residual to estimate them from), ``ft`` (Hz, per file), ``ic``
+        (A, per file), ``temp`` (K), ``points``, ``rel_residual`` (largest misfit of
+        1/(2 pi fT) relative to its value).
+
+    Raises
+    ------
+    InputError
+        Fewer than two files, counts that differ, a FET fit, currents all equal, or points
+        that do not follow the law (:func:`devmodels.datasheet.fit_transit_time`).
     """
-    ic = np.asarray(ic, dtype=float).ravel()
-    ft = np.asarray(ft, dtype=float).ravel()
-    if ic.size != ft.size or ic.size < 2 or np.unique(ic).size < 2:
-        raise InputError("ic, ft: expected at least two points at different collector currents, one fT per IC")
-    if not (np.all(np.isfinite(ic)) and np.all(ic > 0) and np.all(np.isfinite(ft)) and np.all(ft > 0)):
-        raise InputError("ic, ft: expected finite values > 0 (A, Hz)")
-    x = thermal_voltage(temp) / ic
-    t = 1.0 / (2 * math.pi * ft)
-    A = np.stack([np.ones_like(x), x], axis=1)
-    coef, *_ = np.linalg.lstsq(A, t, rcond=None)
-    out = {"tau_f": float(coef[0]), "c_total": float(coef[1]), "tau_f_unc": None, "c_total_unc": None}
-    if ic.size > 2:
-        r = t - A @ coef
-        cov = np.linalg.inv(A.T @ A) * float(r @ r) / (ic.size - 2)
-        out["tau_f_unc"], out["c_total_unc"] = float(math.sqrt(cov[0, 0])), float(math.sqrt(cov[1, 1]))
-    return out
+    from .datasheet import fit_transit_time
+
+    results = list(results)
+    currents = list(np.atleast_1d(np.asarray(ic, dtype=float)))
+    if len(results) < 2:
+        raise InputError(f"files: the fit of tau_F and C_je needs files at two or more different collector "
+                         f"currents, got {len(results)} file{'' if len(results) == 1 else 's'}")
+    if len(currents) != len(results):
+        raise InputError(f"ic: expected one collector current per file ({len(results)} files), got "
+                         f"{len(currents)}")
+    for r in results:
+        if _family(r.config) != "bjt":
+            raise InputError(f"config: the transit-time fit is for a bipolar device (ce, cb, cc), not {r.config}")
+    ft = np.array([r.ft for r in results])
+    fit = fit_transit_time(ft, currents, temp)
+    c_mu = float(np.mean([r.elements["c_mu"] for r in results]))
+    return {"tau_f": fit.tau_f, "tau_f_unc": fit.tau_f_unc, "c_total": fit.c_sum, "c_total_unc": fit.c_sum_unc,
+            "c_mu": c_mu, "c_je": fit.c_sum - c_mu, "c_je_unc": fit.c_sum_unc, "ft": [float(x) for x in ft],
+            "ic": [float(x) for x in currents], "temp": float(temp), "points": fit.points,
+            "rel_residual": fit.rel_residual}
 
 
 # --- outputs ---------------------------------------------------------------------------------
@@ -763,8 +801,9 @@ def bias_toml(result: ExtractionResult, vce: float, *, temp: float = 300.0, devi
     """A bias file (TOML text, flat keys) that reproduces the fitted hybrid-pi.
 
     gm = IC/VT gives ``ic`` = gm VT; ``beta`` = gm r_pi; ``ft`` = gm / (2 pi (c_pi + c_mu));
-    ``cmu``, ``rb``; ``va`` = ro IC; ``rex`` and ``rcx`` when fitted (the relations of
-    :mod:`devmodels.models` read backwards).  Pad capacitances have no bias key and are left out.
+    ``cmu``, ``rb``; ``va`` = ro IC; ``rex``, ``rcx`` and the lead inductances ``l_b``,
+    ``l_c``, ``l_e`` when fitted (the relations of :mod:`devmodels.models` read backwards).
+    Pad capacitances have no bias key and are left out.
 
     Parameters
     ----------
@@ -797,7 +836,7 @@ def bias_toml(result: ExtractionResult, vce: float, *, temp: float = 300.0, devi
              f"rb = {e['rb']!r}", f"temp = {float(temp)!r}"]
     if math.isfinite(e["ro"]) and result.uncertainty.get("ro", 0.0) != math.inf:
         lines.append(f"va = {e['ro'] * ic!r}")
-    for k in ("rex", "rcx"):
+    for k in ("rex", "rcx") + _LEADS:
         if k in e:
             lines.append(f"{k} = {e[k]!r}")
     return "\n".join(lines) + "\n"

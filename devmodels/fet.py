@@ -8,7 +8,9 @@ Small-signal model (node order g, d, s; the body b of a MOSFET is at AC ground, 
 in a stage is the common terminal of the configuration): gate resistance ``rg`` in
 series with the gate, Cgs (g'-s'), Cgd (g'-d'), ro (d'-s'), gm v_g's' and gmb v_bs'
 from d' to s', Csb (s'-b), Cdb (d'-b), drain and source ohmic resistances ``rdx``,
-``rsx``.  A p-channel device has the same small-signal model as an n-channel one.
+``rsx``, and optional lead inductances ``l_g``, ``l_d``, ``l_s`` in series with each terminal
+outside those resistances (as for the bipolar model, :mod:`devmodels.models`).  A p-channel
+device has the same small-signal model as an n-channel one.
 """
 
 from __future__ import annotations
@@ -22,8 +24,8 @@ import numpy as np
 from .constants import BOLTZMANN, FET_CONFIGS
 from .exceptions import InputError
 from .fetbias import FET_DEVICES, JfetBias, MosfetBias
-from .models import check_elements
-from .netlist import Netlist, capacitor, noise_current, optional, resistor, series_node, thermal_noise, vccs
+from .models import check_elements, terminal_series
+from .netlist import Netlist, capacitor, noise_current, optional, resistor, thermal_noise, vccs
 
 __all__ = ["FetModel", "fet_values"]
 
@@ -90,6 +92,9 @@ class FetModel:
         Corner frequency in Hz of the 1/f part of the drain noise (0: none).
     temp : float
         Temperature of the device and its noise in K.
+    l_g, l_d, l_s : float
+        Gate, drain and source lead inductances in H, in series with each terminal outside
+        rg, rdx, rsx (0: none).
     """
 
     gm: float
@@ -107,6 +112,9 @@ class FetModel:
     gamma_n: float = 2.0 / 3.0
     flicker_corner: float = 0.0
     temp: float = 300.0
+    l_g: float = 0.0
+    l_d: float = 0.0
+    l_s: float = 0.0
 
     #: Device family, configurations, terminal names (port order of the indefinite matrix).
     family: ClassVar[str] = "fet"
@@ -116,13 +124,14 @@ class FetModel:
     tied_to_common: ClassVar[tuple[str, ...]] = ("body",)
     #: Every element name the netlist may hold.
     element_names: ClassVar[tuple[str, ...]] = ("gm", "gmb", "ro", "cgs", "cgd", "csb", "cdb", "rg", "rdx",
-                                                "rsx")
+                                                "rsx", "l_g", "l_d", "l_s")
     #: The usual textbook set, the default of a formula.
     textbook_elements: ClassVar[tuple[str, ...]] = ("gm", "gmb", "ro", "cgs", "cgd")
 
     def __post_init__(self) -> None:
         check_elements(self, positive=("gm", "gamma_n", "temp"),
-                       nonneg=("gmb", "cgs", "cgd", "csb", "cdb", "rg", "rdx", "rsx", "flicker_corner"),
+                       nonneg=("gmb", "cgs", "cgd", "csb", "cdb", "rg", "rdx", "rsx", "flicker_corner", "l_g",
+                               "l_d", "l_s"),
                        resist=("ro",))
         if self.device not in FET_DEVICES:
             raise InputError(f"device: expected one of {', '.join(FET_DEVICES)}, got {self.device!r}")
@@ -138,7 +147,8 @@ class FetModel:
         else:
             raise InputError(f"bias: expected a MosfetBias or a JfetBias, got {type(bias).__name__}")
         return cls(gm=float(v["gm"]), gmb=float(v["gmb"]), ro=float(v["ro"]), cgs=bias.cgs, cgd=bias.cgd,
-                   csb=bias.csb, cdb=bias.cdb, rg=bias.rg, device=bias.device, vov=bias.vov)
+                   csb=bias.csb, cdb=bias.cdb, rg=bias.rg, device=bias.device, vov=bias.vov, l_g=bias.l_g,
+                   l_d=bias.l_d, l_s=bias.l_s)
 
     @property
     def temperature(self) -> float:
@@ -168,7 +178,7 @@ class FetModel:
         Used by the symbolic back end, which needs only the names; ``gm`` is always there.
         """
         absent = {"gmb": 0.0, "ro": _INF, "cgs": 0.0, "cgd": 0.0, "csb": 0.0, "cdb": 0.0, "rg": 0.0,
-                  "rdx": 0.0, "rsx": 0.0}
+                  "rdx": 0.0, "rsx": 0.0, "l_g": 0.0, "l_d": 0.0, "l_s": 0.0}
         return cls(gm=1.0, **{k: 1.0 if k in present else v for k, v in absent.items()})
 
     def miller_parts(self) -> dict[str, float]:
@@ -180,15 +190,14 @@ class FetModel:
         """The model's elements between g, d, s, the body node and internal nodes g', d', s'.
 
         The body is the node ``body``; a stage ties it to its common terminal.  A zero series
-        resistance (rg, rdx, rsx) is no element.  Noise sources: the channel's thermal noise
+        resistance (rg, rdx, rsx) is no element; a lead inductance (l_g, l_d, l_s) sits between
+        the terminal and its resistance (none when 0).  Noise sources: the channel's thermal noise
         4 k T gamma_n gm from d' to s' (with its 1/f part above ``flicker_corner``) and the
         thermal noise of rg, rdx, rsx.
         """
-        elements, g = series_node("rg", "g", "g'", self.rg)
-        more, d = series_node("rdx", "d", "d'", self.rdx)
-        elements += more
-        more, s = series_node("rsx", "s", "s'", self.rsx)
-        elements += more
+        elements, (g, d, s) = terminal_series(
+            {"g": ("l_g", self.l_g), "d": ("l_d", self.l_d), "s": ("l_s", self.l_s)},
+            {"g": ("rg", self.rg), "d": ("rdx", self.rdx), "s": ("rsx", self.rsx)})
         elements += [*optional(capacitor("cgs", g, s, self.cgs)),
                      *optional(capacitor("cgd", g, d, self.cgd)),
                      *optional(resistor("ro", d, s, self.ro)),

@@ -68,8 +68,8 @@ def _check_common(obj, device_set: tuple[str, ...], family: str) -> None:
                         "(not a saturation-region bias point)")
     object.__setattr__(obj, "id", id_)
     object.__setattr__(obj, "vds", vds)
-    for name in ("cgs", "cgd", "csb", "cdb", "rg"):
-        unit = "ohm" if name == "rg" else "F"
+    for name in ("cgs", "cgd", "csb", "cdb", "rg", "l_g", "l_d", "l_s"):
+        unit = {"rg": "ohm", "l_g": "H", "l_d": "H", "l_s": "H"}.get(name, "F")
         object.__setattr__(obj, name, _num(name, getattr(obj, name), unit, nonneg=True))
     object.__setattr__(obj, "lambda_", _num("lambda", obj.lambda_, "1/V", positive=True, optional=True))
 
@@ -108,6 +108,8 @@ class MosfetBias:
         Capacitances in F.
     rg : float
         Gate resistance in ohm.
+    l_g, l_d, l_s : float
+        Gate, drain and source lead inductances in H, in series with each terminal (0: none).
     """
 
     id: float = field(metadata=meta("A", "Drain current, A (e.g. 2mA).", 1e-15, 100.0))
@@ -129,6 +131,12 @@ class MosfetBias:
     csb: float = field(default=0.0, metadata=meta("F", "Source-body capacitance, F (default 0).", 1e-18, 1.0))
     cdb: float = field(default=0.0, metadata=meta("F", "Drain-body capacitance, F (default 0).", 1e-18, 1.0))
     rg: float = field(default=0.0, metadata=meta("Ohm", "Gate resistance, ohm (default 0).", 1e-6, 1e12))
+    l_g: float = field(default=0.0, metadata=meta(
+        "H", "Gate lead inductance, H (e.g. 1nH), in series with the gate terminal (default 0).", 1e-15, 1e-3))
+    l_d: float = field(default=0.0, metadata=meta(
+        "H", "Drain lead inductance, H, in series with the drain terminal (default 0).", 1e-15, 1e-3))
+    l_s: float = field(default=0.0, metadata=meta(
+        "H", "Source lead inductance, H, in series with the source terminal (default 0).", 1e-15, 1e-3))
 
     def __post_init__(self) -> None:
         _check_common(self, ("nmos", "pmos"), "MOSFET")
@@ -178,6 +186,8 @@ class JfetBias:
         Capacitances in F (csb, cdb: source and drain to substrate, usually 0).
     rg : float
         Gate resistance in ohm.
+    l_g, l_d, l_s : float
+        Gate, drain and source lead inductances in H, in series with each terminal (0: none).
     """
 
     id: float = field(metadata=meta("A", "Drain current, A (e.g. 2mA).", 1e-15, 100.0))
@@ -193,6 +203,12 @@ class JfetBias:
     csb: float = field(default=0.0, metadata=meta("F", "Source-body capacitance, F (default 0).", 1e-18, 1.0))
     cdb: float = field(default=0.0, metadata=meta("F", "Drain-body capacitance, F (default 0).", 1e-18, 1.0))
     rg: float = field(default=0.0, metadata=meta("Ohm", "Gate resistance, ohm (default 0).", 1e-6, 1e12))
+    l_g: float = field(default=0.0, metadata=meta(
+        "H", "Gate lead inductance, H (e.g. 1nH), in series with the gate terminal (default 0).", 1e-15, 1e-3))
+    l_d: float = field(default=0.0, metadata=meta(
+        "H", "Drain lead inductance, H, in series with the drain terminal (default 0).", 1e-15, 1e-3))
+    l_s: float = field(default=0.0, metadata=meta(
+        "H", "Source lead inductance, H, in series with the source terminal (default 0).", 1e-15, 1e-3))
 
     def __post_init__(self) -> None:
         _check_common(self, ("njfet", "pjfet"), "JFET")

@@ -299,7 +299,9 @@ def frequency_figures(stage: Stage, f_start: float, f_stop: float, zs=50.0, zl=1
         return stability_arrays(bare.two_port(f, "s").data)["u_db"]
 
     try:
-        h0 = float(abs(h21(np.array([0.0]))[0]))
+        from .models import without_leads
+
+        h0 = float(abs(Stage(without_leads(stage.model)).two_port(np.array([0.0]), "h").data[0, 1, 0]))
     except SingularParameterError:  # no input conductance at 0 Hz (a FET): |h21| is unbounded there
         h0 = None
     f_beta = None if h0 is None else crossing(lambda f: np.abs(h21(f)), h0 / math.sqrt(2), f_start, f_stop,

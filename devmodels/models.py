@@ -11,6 +11,12 @@ Circuits*, ch. 1; Sedra and Smith, *Microelectronic Circuits*, ch. on BJTs, from
     V_T = kT/q,\quad g_m = I_C/V_T,\quad r_\pi = \beta/g_m,\quad r_o = V_A/I_C,
     \quad C_\pi = \frac{g_m}{2\pi f_T} - C_\mu,\quad
     \alpha = \frac{\beta}{\beta+1},\quad r_e = \alpha/g_m .
+
+Optional lead inductances ``l_b``, ``l_c``, ``l_e`` (H) sit in series with each terminal,
+outside the ohmic resistances (terminal -- lead inductance -- rb / rcx / rex -- internal
+node), as in the usual packaged-transistor equivalent circuits of the RF texts (e.g.
+Gonzalez, *Microwave Transistor Amplifiers*, ch. 1; from memory).  They are noiseless and
+are left out at mid-band and at 0 Hz, where they are shorts (:mod:`devmodels.netlist`).
 """
 
 from __future__ import annotations
@@ -24,12 +30,82 @@ import numpy as np
 from .bias import BipolarBias
 from .constants import BJT_CONFIGS, BOLTZMANN, ELEMENTARY_CHARGE, thermal_voltage
 from .exceptions import BiasError, InputError
-from .netlist import (Element, Netlist, capacitor, noise_current, optional, resistor, series_node,
+from .netlist import (Element, Netlist, capacitor, inductor, noise_current, optional, resistor, series_node,
                       thermal_noise, vccs)
 
-__all__ = ["HybridPi", "TModel", "hybrid_pi_values", "check_elements"]
+__all__ = ["HybridPi", "TModel", "hybrid_pi_values", "check_elements", "lead_node", "terminal_series",
+           "without_leads", "LEADS"]
 
 _INF = math.inf
+#: Lead inductance names of a bipolar model, by terminal.
+LEADS: dict[str, str] = {"b": "l_b", "c": "l_c", "e": "l_e"}
+
+
+def lead_node(name: str, outer: str, value) -> tuple[list[Element], str]:
+    """A series lead inductance from terminal ``outer`` to a node inside the package.
+
+    Parameters
+    ----------
+    name : str
+        The inductor's key (``l_b``, ``l_g``, ...).
+    outer : str
+        The terminal.
+    value : float or ndarray
+        Inductance in H; 0 for none (at every point, or at none).
+
+    Returns
+    -------
+    (list of Element, str)
+        The elements and the node the rest of the device connects to: ``outer + '_lead'``
+        with an inductor, ``outer`` itself without.
+    """
+    there = optional(inductor(name, outer, outer + "_lead", value))
+    return there, (outer + "_lead" if there else outer)
+
+
+def without_leads(model):
+    """``model`` with its lead inductances left out (0: shorts), as at 0 Hz and at mid-band.
+
+    Any device model whose netlist holds inductors named like its fields (``l_b``, ``l_g``, ...);
+    a model without them is returned as it is.
+
+    Parameters
+    ----------
+    model : device model
+        :class:`HybridPi`, :class:`TModel` or :class:`~devmodels.fet.FetModel`.
+    """
+    import dataclasses
+
+    leads = {e.name: 0.0 for e in model.netlist().elements if e.kind == "inductor"}
+    return dataclasses.replace(model, **leads) if leads else model
+
+
+def terminal_series(leads: dict, resistances: dict) -> tuple[list[Element], tuple[str, ...]]:
+    """Lead inductance then ohmic resistance at each terminal: the elements and the inner nodes.
+
+    Parameters
+    ----------
+    leads : dict of str -> (str, float)
+        Terminal -> (inductor name, inductance in H; 0 for none), in terminal order.
+    resistances : dict of str -> (str, float)
+        Terminal -> (resistor name, resistance in ohm; 0 for none); the inner node is the
+        terminal's name with a prime (``b'``).
+
+    Returns
+    -------
+    (list of Element, tuple of str)
+        The elements and, per terminal, the node the rest of the device connects to.
+    """
+    elements: list[Element] = []
+    inner = []
+    for terminal, (lname, lvalue) in leads.items():
+        more, node = lead_node(lname, terminal, lvalue)
+        elements += more
+        rname, rvalue = resistances[terminal]
+        more, node = series_node(rname, node, terminal + "'", rvalue)
+        elements += more
+        inner.append(node)
+    return elements, tuple(inner)
 
 
 def check_elements(obj, positive=(), nonneg=(), resist=()) -> None:
@@ -127,6 +203,9 @@ class HybridPi:
     flicker_corner : float
         Corner frequency in Hz of the 1/f part of the base current noise (0: none): the
         base noise density is 2 q IB (1 + flicker_corner / f).
+    l_b, l_c, l_e : float
+        Base, collector and emitter lead inductances in H, in series with each terminal
+        outside rb, rcx, rex (0: none).
     """
 
     gm: float
@@ -140,6 +219,9 @@ class HybridPi:
     rex: float = 0.0
     vt: float = thermal_voltage(300.0)
     flicker_corner: float = 0.0
+    l_b: float = 0.0
+    l_c: float = 0.0
+    l_e: float = 0.0
 
     #: Device family, configurations, terminal names (port order of the indefinite matrix).
     family: ClassVar[str] = "bipolar"
@@ -149,13 +231,14 @@ class HybridPi:
     tied_to_common: ClassVar[tuple[str, ...]] = ()
     #: Every element name the netlist may hold.
     element_names: ClassVar[tuple[str, ...]] = ("gm", "r_pi", "ro", "c_pi", "c_mu", "rb", "r_mu", "rcx",
-                                                "rex")
+                                                "rex", "l_b", "l_c", "l_e")
     #: The usual textbook set, the default of a formula.
     textbook_elements: ClassVar[tuple[str, ...]] = ("gm", "r_pi", "ro", "rb", "c_pi", "c_mu")
 
     def __post_init__(self) -> None:
         check_elements(self, positive=("gm", "r_pi", "vt"),
-                       nonneg=("c_pi", "c_mu", "rb", "rcx", "rex", "flicker_corner"), resist=("ro", "r_mu"))
+                       nonneg=("c_pi", "c_mu", "rb", "rcx", "rex", "flicker_corner", "l_b", "l_c", "l_e"),
+                       resist=("ro", "r_mu"))
 
     @property
     def temperature(self):
@@ -179,7 +262,7 @@ class HybridPi:
                 f"(C_pi would be {v['c_pi']:g} F; fT must not exceed gm/(2 pi C_mu) = {ft_max:g} Hz)")
         r_mu = _INF if bias.rmu is None else bias.rmu
         return cls(gm=v["gm"], r_pi=v["r_pi"], ro=v["ro"], c_pi=v["c_pi"], c_mu=bias.cmu, rb=bias.rb,
-                   r_mu=r_mu, rcx=bias.rcx, rex=bias.rex, vt=v["vt"])
+                   r_mu=r_mu, rcx=bias.rcx, rex=bias.rex, vt=v["vt"], l_b=bias.l_b, l_c=bias.l_c, l_e=bias.l_e)
 
     @classmethod
     def placeholder(cls, present) -> "HybridPi":
@@ -189,7 +272,8 @@ class HybridPi:
         are always there.
         """
         one = {n: 1.0 for n in present if n in cls.element_names}
-        absent = {"ro": _INF, "r_mu": _INF, "c_pi": 0.0, "c_mu": 0.0, "rb": 0.0, "rcx": 0.0, "rex": 0.0}
+        absent = {"ro": _INF, "r_mu": _INF, "c_pi": 0.0, "c_mu": 0.0, "rb": 0.0, "rcx": 0.0, "rex": 0.0,
+                  "l_b": 0.0, "l_c": 0.0, "l_e": 0.0}
         return cls(gm=1.0, r_pi=1.0, **{k: one.get(k, v) for k, v in absent.items()})
 
     def miller_parts(self) -> dict[str, float]:
@@ -201,16 +285,15 @@ class HybridPi:
         """The model's elements between its terminals b, c, e and internal nodes b', c', e'.
 
         A zero series resistance (rb, rcx, rex) is no element: the terminal is the internal node.
-        Noise sources: the thermal noise of rb, rcx and rex (4kT/R), the shot noise of the
-        base current 2 q IB from b' to e' (with its 1/f part above ``flicker_corner``) and of
-        the collector current 2 q IC from c' to e', uncorrelated (Gray, Hurst, Lewis and
-        Meyer, ch. 11; from memory).  r_pi and ro are not physical resistors: noiseless.
+        A lead inductance (l_b, l_c, l_e) sits between the terminal and its resistance (node
+        ``b_lead``, ...; none when 0; noiseless).  Noise sources: the thermal noise of rb, rcx
+        and rex (4kT/R), the shot noise of the base current 2 q IB from b' to e' (with its 1/f
+        part above ``flicker_corner``) and of the collector current 2 q IC from c' to e',
+        uncorrelated (Gray, Hurst, Lewis and Meyer, ch. 11; from memory).  r_pi and ro are not physical resistors: noiseless.
         """
-        elements, b = series_node("rb", "b", "b'", self.rb)
-        more, c = series_node("rcx", "c", "c'", self.rcx)
-        elements += more
-        more, e = series_node("rex", "e", "e'", self.rex)
-        elements += more
+        elements, (b, c, e) = terminal_series(
+            {"b": ("l_b", self.l_b), "c": ("l_c", self.l_c), "e": ("l_e", self.l_e)},
+            {"b": ("rb", self.rb), "c": ("rcx", self.rcx), "e": ("rex", self.rex)})
         elements += [resistor("r_pi", b, e, self.r_pi),
                      *optional(capacitor("c_pi", b, e, self.c_pi)),
                      *optional(resistor("r_mu", b, c, self.r_mu)),
@@ -252,7 +335,8 @@ class HybridPi:
     def to_t(self) -> "TModel":
         """The T model with the same terminal behaviour."""
         return TModel(re=self.re, alpha=self.alpha, c_e=self.c_pi, ro=self.ro, c_mu=self.c_mu,
-                      rb=self.rb, r_mu=self.r_mu, rcx=self.rcx, rex=self.rex, vt=self.vt)
+                      rb=self.rb, r_mu=self.r_mu, rcx=self.rcx, rex=self.rex, vt=self.vt, l_b=self.l_b,
+                      l_c=self.l_c, l_e=self.l_e)
 
 
 @dataclass(frozen=True, slots=True)
@@ -272,7 +356,7 @@ class TModel:
         Low-frequency common-base current gain.
     c_e : float
         Capacitance across re in F (equal to C_pi of the hybrid-pi).
-    ro, c_mu, rb, r_mu, rcx, rex, vt : float
+    ro, c_mu, rb, r_mu, rcx, rex, vt, l_b, l_c, l_e : float
         As in :class:`HybridPi`.
     """
 
@@ -286,6 +370,9 @@ class TModel:
     rcx: float = 0.0
     rex: float = 0.0
     vt: float = thermal_voltage(300.0)
+    l_b: float = 0.0
+    l_c: float = 0.0
+    l_e: float = 0.0
 
     @classmethod
     def from_bias(cls, bias: BipolarBias) -> "TModel":
@@ -296,10 +383,12 @@ class TModel:
     configs: ClassVar[tuple[str, ...]] = BJT_CONFIGS
     terminals: ClassVar[tuple[str, str, str]] = ("b", "c", "e")
     tied_to_common: ClassVar[tuple[str, ...]] = ()
-    element_names: ClassVar[tuple[str, ...]] = ("re", "gm", "c_e", "ro", "c_mu", "rb", "r_mu", "rcx", "rex")
+    element_names: ClassVar[tuple[str, ...]] = ("re", "gm", "c_e", "ro", "c_mu", "rb", "r_mu", "rcx", "rex",
+                                                "l_b", "l_c", "l_e")
 
     def __post_init__(self) -> None:
-        check_elements(self, positive=("re", "alpha", "vt"), nonneg=("c_e", "c_mu", "rb", "rcx", "rex"),
+        check_elements(self, positive=("re", "alpha", "vt"),
+                       nonneg=("c_e", "c_mu", "rb", "rcx", "rex", "l_b", "l_c", "l_e"),
                        resist=("ro", "r_mu"))
 
     @property
@@ -315,11 +404,9 @@ class TModel:
         y_e v(b'e') and the source alpha(jw) i_e = (alpha/re) v(b'e') still (module
         docstring), so its value is alpha/re (= gm of the hybrid-pi), named ``gm``.
         """
-        elements, b = series_node("rb", "b", "b'", self.rb)
-        more, c = series_node("rcx", "c", "c'", self.rcx)
-        elements += more
-        more, e = series_node("rex", "e", "e'", self.rex)
-        elements += more
+        elements, (b, c, e) = terminal_series(
+            {"b": ("l_b", self.l_b), "c": ("l_c", self.l_c), "e": ("l_e", self.l_e)},
+            {"b": ("rb", self.rb), "c": ("rcx", self.rcx), "e": ("rex", self.rex)})
         elements += [resistor("re", b, e, self.re),
                      *optional(capacitor("c_e", b, e, self.c_e)),
                      vccs("gm", c, b, b, e, self.alpha / self.re),

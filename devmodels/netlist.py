@@ -28,6 +28,11 @@ source.
 
 Element names are the keys used everywhere else (JSON output, formulas): ``gm``, ``r_pi``,
 ``ro``, ``c_pi``, ``c_mu``, ``rb``, ... and ``rdeg``, ``rfb`` for the stage's resistors.
+
+An inductor (a device's lead inductance ``l_b``, ``l_c``, ``l_e``) stamps 1/(j w L).  At 0 Hz it
+is a short, which an admittance cannot hold: an inductor refuses w = 0 (:class:`InputError`
+naming it).  Lead inductances are parasitic reactances like the device capacitances, so a
+mid-band (0 Hz) evaluation leaves them out (value 0: no element, the terminal is the inner node).
 """
 
 from __future__ import annotations
@@ -40,11 +45,11 @@ import numpy as np
 
 from .exceptions import InputError
 
-__all__ = ["Element", "Netlist", "ElementKind", "NOISE_KINDS", "resistor", "capacitor", "vccs",
+__all__ = ["Element", "Netlist", "ElementKind", "NOISE_KINDS", "resistor", "capacitor", "inductor", "vccs",
            "noise_current", "thermal_noise", "series_node", "optional", "reduce_to", "reduce_with_noise", "reduce_over_freq",
            "stamp", "kron_reduce", "check_freq"]
 
-ElementKind = Literal["resistor", "capacitor", "vccs", "noise", "flicker"]
+ElementKind = Literal["resistor", "capacitor", "inductor", "vccs", "noise", "flicker"]
 #: Element kinds that are noise current sources (they stamp nothing into Y).
 NOISE_KINDS: tuple[str, ...] = ("noise", "flicker")
 
@@ -55,15 +60,16 @@ class Element:
 
     Parameters
     ----------
-    kind : {'resistor', 'capacitor', 'vccs', 'noise', 'flicker'}
-        Resistor (value in ohm), capacitor (F), voltage-controlled current source (S), or a
+    kind : {'resistor', 'capacitor', 'inductor', 'vccs', 'noise', 'flicker'}
+        Resistor (value in ohm), capacitor (F), inductor (H; it refuses 0 Hz, where it would
+        be a short), voltage-controlled current source (S), or a
         noise current source between two nodes: ``noise`` is white, ``value`` its one-sided
         power spectral density in A^2/Hz; ``flicker`` has the density ``value / f``
         (``value`` in A^2).  Noise sources are uncorrelated with each other.
     name : str
         The element's key: the symbol of the sympy back end and the key of JSON output.
     nodes : tuple of str
-        ``(a, b)`` for a resistor, capacitor or noise source (whose current flows from a to
+        ``(a, b)`` for a resistor, capacitor, inductor or noise source (whose current flows from a to
         b inside the source); ``(out_from, out_to, ctl_plus, ctl_minus)``
         for a source whose current ``value * (V[ctl_plus] - V[ctl_minus])`` leaves node
         ``out_from`` through the source and enters ``out_to``.
@@ -78,17 +84,27 @@ class Element:
 
     def __post_init__(self) -> None:
         want = 4 if self.kind == "vccs" else 2
-        if self.kind not in ("resistor", "capacitor", "vccs") + NOISE_KINDS:
+        if self.kind not in ("resistor", "capacitor", "inductor", "vccs") + NOISE_KINDS:
             raise InputError(f"kind: unknown element kind {self.kind!r}")
         if len(self.nodes) != want:
             raise InputError(f"nodes: a {self.kind} takes {want} nodes, got {len(self.nodes)}")
 
     def admittance(self, jw):
-        """The admittance (S) this element stamps; ``jw`` is j times the angular frequency."""
+        """The admittance (S) this element stamps; ``jw`` is j times the angular frequency.
+
+        An inductor's is 1/(j w L); at w = 0 it would be a short (infinite admittance), which
+        it refuses with an :class:`InputError` naming it.
+        """
         if self.kind == "resistor":
             return 1.0 / np.asarray(self.value) if np.ndim(self.value) else 1.0 / self.value
         if self.kind == "capacitor":
             return jw * self.value
+        if self.kind == "inductor":
+            if np.any(np.asarray(jw) == 0):
+                raise InputError(f"{self.name}: an inductor is a short at 0 Hz, which the admittance engine "
+                                 "cannot hold; evaluate above 0 Hz (a mid-band or DC result leaves lead "
+                                 "inductances out)")
+            return 1.0 / (jw * self.value)
         return self.value
 
 
@@ -120,6 +136,21 @@ def capacitor(name: str, a: str, b: str, value) -> Element:
         Capacitance in F.
     """
     return Element("capacitor", name, (a, b), value)
+
+
+def inductor(name: str, a: str, b: str, value) -> Element:
+    """An inductor between two nodes (admittance 1/(j w L); it refuses 0 Hz, module docstring).
+
+    Parameters
+    ----------
+    name : str
+        The element's key (``l_b``, ``l_c``, ``l_e``, ...).
+    a, b : str
+        The nodes.
+    value : float or ndarray
+        Inductance in H.
+    """
+    return Element("inductor", name, (a, b), value)
 
 
 def noise_current(name: str, a: str, b: str, psd, kind: str = "noise") -> Element:
@@ -278,12 +309,67 @@ class Netlist:
         return {e.name: e.value for e in self.elements}
 
 
+def _stamp_entries(netlist: Netlist, order: Sequence[str], omega) -> dict:
+    """The structurally non-zero entries of the indefinite matrix: ``{(row, col): admittance}``.
+
+    Each value is an admittance in S: a scalar where every element stamped there has one
+    value for all points (a fixed resistor, or a capacitor at one frequency), else an array
+    (n,); real where only resistors and sources stamp there, complex otherwise.  Entries no
+    element touches are absent (zero).  Contributions add in the order of the elements, as
+    :func:`stamp` adds them.
+
+    Parameters
+    ----------
+    netlist : Netlist
+        The circuit.
+    order : sequence of str
+        Every node of the netlist; the row and column numbers are positions in it.
+    omega : float or ndarray (n,)
+        Angular frequency in rad/s.
+    """
+    idx = {name: i for i, name in enumerate(order)}
+    Y: dict = {}
+    jw = 1j * np.asarray(omega)
+
+    def add(i, j, y):  # a new array every time: element values are never changed in place
+        Y[i, j] = Y[i, j] + y if (i, j) in Y else y
+
+    for el in netlist.elements:
+        if el.kind in NOISE_KINDS:
+            continue
+        y = el.admittance(jw)
+        if el.kind == "vccs":
+            a, b, p, q = (idx[x] for x in el.nodes)
+            add(a, p, y)
+            add(a, q, -y)
+            add(b, p, -y)
+            add(b, q, y)
+        else:
+            a, b = idx[el.nodes[0]], idx[el.nodes[1]]
+            if a == b:
+                continue
+            add(a, a, y)
+            add(b, b, y)
+            add(a, b, -y)
+            add(b, a, -y)
+    return Y
+
+
+def _dense(Y: dict, m: int, n: int, points_first: bool = False) -> np.ndarray:
+    """The entries ``Y`` as a complex matrix (m, m, n), zero where absent; with ``points_first``
+    the same memory seen as (n, m, m) (a view: measured 2.5x faster than a contiguous copy)."""
+    out = np.zeros((m, m, n), dtype=complex)
+    for (i, j), v in Y.items():
+        out[i, j] = v
+    return np.moveaxis(out, 2, 0) if points_first else out
+
+
 def stamp(netlist: Netlist, order: Sequence[str], omega, n: int) -> np.ndarray:
     """Indefinite nodal admittance matrix of ``netlist``, nodes in ``order``, shape (m, m, n).
 
-    The point axis is last (each matrix entry is one contiguous array of the n points),
-    which keeps the small-matrix arithmetic of the reduction fast; :func:`reduce_to`
-    returns the usual (n, k, k).
+    The point axis is last (each matrix entry is one contiguous array of the n points).
+    The reduction itself works on the non-zero entries only (:func:`kron_reduce`); this
+    dense form is for callers that want the whole matrix.
 
     Parameters
     ----------
@@ -296,29 +382,7 @@ def stamp(netlist: Netlist, order: Sequence[str], omega, n: int) -> np.ndarray:
     n : int
         Number of points.
     """
-    idx = {name: i for i, name in enumerate(order)}
-    m = len(order)
-    Y = np.zeros((m, m, n), dtype=complex)
-    jw = 1j * np.asarray(omega)
-    for el in netlist.elements:
-        if el.kind in NOISE_KINDS:
-            continue
-        y = el.admittance(jw)
-        if el.kind == "vccs":
-            a, b, p, q = (idx[x] for x in el.nodes)
-            Y[a, p] += y
-            Y[a, q] -= y
-            Y[b, p] -= y
-            Y[b, q] += y
-        else:
-            a, b = idx[el.nodes[0]], idx[el.nodes[1]]
-            if a == b:
-                continue
-            Y[a, a] += y
-            Y[b, b] += y
-            Y[a, b] -= y
-            Y[b, a] -= y
-    return Y
+    return _dense(_stamp_entries(netlist, order, omega), len(order), n)
 
 
 def _l1(x: np.ndarray) -> np.ndarray:
@@ -326,16 +390,31 @@ def _l1(x: np.ndarray) -> np.ndarray:
     return np.abs(x.real) + np.abs(x.imag)
 
 
-def kron_reduce(Y: np.ndarray, keep: int, names: Sequence[str] = (), injections: np.ndarray | None = None):
+def _sum(terms: list):
+    """``terms[0] + terms[1] + ...`` in this order (0.0 for none): the order in which numpy sums
+    the rows of an array, so leaving out zero entries does not change a bit of the sum."""
+    total = 0.0
+    for i, t in enumerate(terms):
+        total = t if i == 0 else total + t
+    return total
+
+
+def kron_reduce(Y, keep: int, names: Sequence[str] = (), injections: np.ndarray | None = None):
     """Remove the nodes after the first ``keep`` from an indefinite matrix.
 
-    Nodes are removed last to first; each new diagonal entry is the best of three
-    equivalent forms (module docstring).
+    Nodes are removed last to first.  Only the structurally non-zero entries are kept and
+    touched (a stage has 7 to 10 nodes, but each node few neighbours): removing node k
+    changes Y_ij only where Y_ik and Y_kj are both non-zero (the neighbours of k), and
+    creates Y_ij there when it was zero (fill-in).  Each changed diagonal entry is the best
+    of three equivalent forms (module docstring).  Leaving out the zero entries changes no
+    bit of the result: a zero product or a zero term in a sum is exact.
 
     Parameters
     ----------
-    Y : ndarray, complex, shape (m, m, n)
-        Indefinite admittance matrix in S, point axis last; it is overwritten.
+    Y : ndarray, complex, shape (m, m, n), or dict
+        Indefinite admittance matrix in S, point axis last, or its non-zero entries
+        ``{(row, col): scalar or ndarray (n,)}`` (as the engine stamps them); a dict is
+        consumed.
     keep : int
         Number of leading nodes kept.
     names : sequence of str
@@ -348,43 +427,60 @@ def kron_reduce(Y: np.ndarray, keep: int, names: Sequence[str] = (), injections:
     Returns
     -------
     ndarray, complex, shape (keep, keep, n)
-        The reduced matrix; with ``injections``, the pair (matrix, injections (keep, S, n)).
+        The reduced matrix (n is 1 when every entry of a dict is a scalar); with ``injections``, the
+        pair (matrix, injections (keep, S, n)).
 
     Raises
     ------
     InputError
         A node to remove has no admittance to anything (it floats) at some point.
     """
-    m = Y.shape[0]
+    if isinstance(Y, dict):
+        n = max([np.size(v) for v in Y.values()] + [1])
+    else:
+        n = Y.shape[2]
+        Y = {(i, j): Y[i, j] for i in range(Y.shape[0]) for j in range(Y.shape[0]) if np.any(Y[i, j] != 0)}
+    m = max([len(names), keep] + [1 + max(key) for key in Y])
+    if injections is not None:
+        m, n = max(m, injections.shape[0]), injections.shape[2]
+    Y, J = _kron_entries(Y, m, keep, names, injections)
+    return _dense(Y, keep, n) if J is None else (_dense(Y, keep, n), J)
+
+
+def _kron_entries(Y: dict, m: int, keep: int, names: Sequence[str], J: np.ndarray | None):
+    """:func:`kron_reduce` of the m-node entries ``Y`` (consumed): (entries at the kept nodes, J)."""
     for k in range(m - 1, keep - 1, -1):
-        pivot = Y[k, k]
+        pivot = Y.pop((k, k), 0.0)
         if np.any(pivot == 0):
             who = names[k] if k < len(names) else str(k)
             raise InputError(f"netlist: node {who!r} is connected to nothing at some point "
                              "(it floats); the circuit cannot be reduced")
-        col = Y[:k, k] / pivot                                   # Y_ik / Y_kk, shape (k, n)
-        row = Y[k, :k]                                           # Y_kj
-        idx = np.arange(k)
-        diag_old = Y[idx, idx].copy()
-        corr = col * row                                         # Y_ik Y_ki / Y_kk
-        kept = Y[:k, :k]
-        kept -= col[:, None, :] * row[None, :, :]
-        if injections is not None:
-            injections = injections[:k] - col[:, None, :] * injections[k][None, :, :]
+        col = {i: Y.pop((i, k)) / pivot for i in range(k) if (i, k) in Y}   # Y_ik / Y_kk
+        row = {j: Y.pop((k, j)) for j in range(k) if (k, j) in Y}           # Y_kj
+        diagonal = {}                               # i -> (old Y_ii, its correction Y_ik Y_ki / Y_kk)
+        for i, c in col.items():
+            for j, r in row.items():
+                corr = c * r
+                if i == j:
+                    diagonal[i] = (Y.get((i, i), 0.0), corr)
+                Y[i, j] = Y[i, j] - corr if (i, j) in Y else -corr
+            if J is not None:
+                J[i] = J[i] - c * J[k]
         # Where the update of a diagonal entry may cancel (the correction is at least half the
         # old entry), compare it with minus the row sum and minus the column sum and keep the
         # form with the smallest terms.  A loop over the few nodes concerned, not over points.
-        size_direct = _l1(diag_old) + _l1(corr)
-        risky = _l1(corr) >= 0.5 * _l1(diag_old)
-        for i in np.flatnonzero(risky.any(axis=1)):
-            others = idx[idx != i]
-            off_row, off_col = kept[i, others], kept[others, i]
-            by_row, size_row = -off_row.sum(axis=0), _l1(off_row).sum(axis=0)
-            by_col, size_col = -off_col.sum(axis=0), _l1(off_col).sum(axis=0)
-            best = np.where(size_row <= size_direct[i], by_row, kept[i, i])
-            kept[i, i] = np.where(size_col < np.minimum(size_row, size_direct[i]), by_col, best)
-        Y = kept
-    return Y if injections is None else (Y, injections)
+        for i, (old, corr) in diagonal.items():
+            size_old, size_corr = _l1(old), _l1(corr)
+            if not np.any(size_corr >= 0.5 * size_old):
+                continue
+            size_direct = size_old + size_corr
+            off_row = [Y[i, j] for j in range(k) if j != i and (i, j) in Y]
+            off_col = [Y[j, i] for j in range(k) if j != i and (j, i) in Y]
+            by_row, size_row = -_sum(off_row), _sum([_l1(v) for v in off_row])
+            by_col, size_col = -_sum(off_col), _sum([_l1(v) for v in off_col])
+            best = np.where(size_row <= size_direct, by_row, Y[i, i])
+            Y[i, i] = np.where(size_col < np.minimum(size_row, size_direct), by_col, best)
+    return Y, (None if J is None else J[:keep])
 
 
 def reduce_to(netlist: Netlist, keep: Sequence[str], omega, n: int) -> np.ndarray:
@@ -406,8 +502,8 @@ def reduce_to(netlist: Netlist, keep: Sequence[str], omega, n: int) -> np.ndarra
     if missing:
         raise InputError(f"netlist: no element is connected to node {missing[0]!r}")
     order = list(keep) + [x for x in nodes if x not in keep]
-    Y = kron_reduce(stamp(netlist, order, omega, n), len(keep), order)
-    return np.ascontiguousarray(np.moveaxis(Y, 2, 0))
+    Y, _ = _kron_entries(_stamp_entries(netlist, order, omega), len(order), len(keep), order, None)
+    return _dense(Y, len(keep), n, points_first=True)
 
 
 def reduce_with_noise(netlist: Netlist, keep: Sequence[str], omega, n: int):
@@ -457,9 +553,9 @@ def reduce_with_noise(netlist: Netlist, keep: Sequence[str], omega, n: int):
             psd[s] = np.asarray(el.value) / f
         else:
             psd[s] = el.value
-    Y, Jk = kron_reduce(stamp(netlist, order, omega, n), len(keep), order, J)
+    Y, Jk = _kron_entries(_stamp_entries(netlist, order, omega), len(order), len(keep), order, J)
     C = np.einsum("isn,jsn->nij", Jk * psd[None], Jk.conj())
-    return np.ascontiguousarray(np.moveaxis(Y, 2, 0)), C
+    return _dense(Y, len(keep), n, points_first=True), C
 
 
 def check_freq(freq) -> np.ndarray:

@@ -135,7 +135,7 @@ class Stage:
         capacitances left out (the reference of the low and high corners)."""
         import dataclasses
 
-        caps = {e.name: 0.0 for e in self.model.netlist().elements if e.kind == "capacitor"}
+        caps = {e.name: 0.0 for e in self.model.netlist().elements if e.kind in ("capacitor", "inductor")}
         model = dataclasses.replace(self.model, **caps) if caps else self.model
         return Stage(model, self.config, self.rdeg, self.rfb,
                      None if self.network is None else self.network.shorted())

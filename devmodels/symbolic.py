@@ -16,7 +16,10 @@ equations by Cramer's rule and simplified:
 ``s`` is the Laplace variable (s = j 2 pi f).  Elements that are absent at a bias point
 (a zero series resistance, an infinite ro, a zero capacitance, gmb = 0) are left out of the
 circuit, so the formula shows only what is there; ``low_frequency=True`` leaves out every
-capacitance (s -> 0).  An absent R_S is a short and an absent R_L an open load.
+capacitance (s -> 0) and shorts every inductance.  An inductor (a lead inductance ``l_b``,
+...) stamps 1/(s L): while solving it is a conductance symbol like a resistor's, which
+becomes s L when the conductances are cleared, so the matrix stays polynomial.  An absent
+R_S is a short and an absent R_L an open load.
 
 sympy is imported inside this module only (never by ``import devmodels``).
 """
@@ -44,6 +47,7 @@ LATEX_NAMES: dict[str, str] = {
     "rg": "r_{g}", "rdx": "r_{dx}", "rsx": "r_{sx}", "rdeg": "R_{deg}", "rfb": "R_{fb}",
     "cgs": "C_{gs}", "cgd": "C_{gd}", "csb": "C_{sb}", "cdb": "C_{db}", "c_pi": "C_{\\pi}",
     "c_mu": "C_{\\mu}", "c_e": "C_{e}", "re": "r_{e}", "R_S": "R_{S}", "R_L": "R_{L}",
+    "l_b": "L_{b}", "l_c": "L_{c}", "l_e": "L_{e}", "l_g": "L_{g}", "l_d": "L_{d}", "l_s": "L_{s}",
 }
 
 
@@ -119,6 +123,8 @@ def _symbol(name: str):
 
 #: Prefix of the conductance symbols used while solving (1/r); replaced by r at the end.
 _G = "G__"
+#: Prefix of an inductor's impedance symbol (s L) while solving; its conductance is _G + _SL + name.
+_SL = "SL__"
 
 
 def _cond(name: str):
@@ -139,6 +145,22 @@ def _circuit(structure: tuple, low_frequency: bool):
     import sympy as sp
 
     elements, (p1, p2, k) = structure
+    if low_frequency:  # s -> 0: every inductor is a short, its nodes one node
+        join: dict[str, str] = {}
+
+        def root(x):
+            while x in join:
+                x = join[x]
+            return x
+
+        for kind, _, nodes in elements:
+            if kind == "inductor":
+                a, b = root(nodes[0]), root(nodes[1])
+                if a != b:  # keep a port or the reference as the name of the joined node
+                    a, b = (b, a) if a in (p1, p2, k) else (a, b)
+                    join[a] = b
+        elements = tuple((kind, name, tuple(root(n) for n in nodes)) for kind, name, nodes in elements
+                         if kind != "inductor")
     s = sp.Symbol("s")
     passive: list[tuple[str, str, object]] = []
     vccs: list[tuple[str, str, str, str, object]] = []
@@ -148,6 +170,8 @@ def _circuit(structure: tuple, low_frequency: bool):
             seen.setdefault(n, None)
         if kind == "resistor":
             passive.append((nodes[0], nodes[1], _cond(name)))
+        elif kind == "inductor":
+            passive.append((nodes[0], nodes[1], _cond(_SL + name)))
         elif kind == "capacitor":
             if not low_frequency:
                 passive.append((nodes[0], nodes[1], s * _symbol(name)))
@@ -202,12 +226,17 @@ def _solve(Y, rhs, k):
 
 
 def _to_resistances(num, den):
-    """Replace each conductance G__r by 1/r in num/den and clear the denominators (polynomials)."""
+    """Replace each conductance G__r by 1/r in num/den and clear the denominators (polynomials).
+
+    An inductor's G__SL__l becomes 1/(s l): its flipped symbol SL__l is replaced by s l.
+    """
     import sympy as sp
 
     gens = sorted(num.free_symbols | den.free_symbols, key=str)
     if not gens:
         return num, den
+    sl = {sp.Symbol(str(g)[len(_G):], positive=True): sp.Symbol("s") * _symbol(str(g)[len(_G + _SL):])
+          for g in gens if str(g).startswith(_G + _SL)}
     pn, pd = sp.Poly(num, *gens), sp.Poly(den, *gens)
     new_gens = [sp.Symbol(str(g)[len(_G):], positive=True) if str(g).startswith(_G) else g for g in gens]
     top = [max(pn.degree(g), pd.degree(g)) if str(g).startswith(_G) else None for g in gens]
@@ -219,6 +248,8 @@ def _to_resistances(num, den):
             terms[m] = coeff
         return sp.Poly.from_dict(terms, *new_gens).as_expr()
 
+    if sl:
+        return sp.expand(flip(pn).subs(sl)), sp.expand(flip(pd).subs(sl))
     return flip(pn), flip(pd)
 
 
@@ -431,7 +462,7 @@ def engine_check(formula: Formula, stage, freq: float, rs: float | None, rl: flo
     stage : Stage
         The stage whose element values are used.
     freq : float
-        Frequency in Hz.
+        Frequency in Hz; at 0 Hz the engine's stage leaves the lead inductances out (shorts).
     rs, rl : float or None
         Source and load resistances in ohm (None: ideal source, open load).
     """
@@ -441,6 +472,12 @@ def engine_check(formula: Formula, stage, freq: float, rs: float | None, rl: flo
     from .exceptions import SingularParameterError
 
     ev = {e.name: float(e.value) for e in stage.netlist().elements if e.kind not in NOISE_KINDS}
+    if freq == 0:  # an inductor is a short at 0 Hz: the engine works on the stage without them
+        import dataclasses
+
+        from .models import without_leads
+
+        stage = dataclasses.replace(stage, model=without_leads(stage.model))
     if rs is not None:
         ev["R_S"] = rs
     if rl is not None:

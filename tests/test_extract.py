@@ -23,7 +23,7 @@ import pytest
 import devmodels as dm
 from devmodels.exceptions import FileFormatError, InputError
 from devmodels.extract import (ExtractionWarning, bias_consistency, bias_toml, direct_estimates, extract,
-                               fit_transit_time, model_y, plot_fit)
+                               model_y, plot_fit, transit_time)
 
 import skrf  # noqa: E402
 
@@ -329,16 +329,56 @@ def test_bias_consistency_ideality_and_excess_re():
     assert out["re_excess"] == pytest.approx(0.05 * vt / ic, rel=1e-9)
 
 
-def test_transit_time_from_several_currents():
+def test_transit_time_from_fits_at_several_currents():
+    """Exact fT(IC) of the law 1/(2 pi fT) = tau_F + (C_je + C_mu) VT/IC (Gray, Hurst, Lewis and
+    Meyer, ch. 1; from memory): each file's elements made from it (C_pi = gm/(2 pi fT) - C_mu,
+    gm = IC/VT), fitted, and tau_F and C_je found back."""
     vt = dm.thermal_voltage(300.0)
-    tau, c = 250e-12, 4e-12
-    ic = np.array([0.5e-3, 1e-3, 2e-3, 5e-3])
-    ft = 1 / (2 * math.pi * (tau + c * vt / ic))
-    out = fit_transit_time(ic, ft, 300.0)
-    assert out["tau_f"] == pytest.approx(tau, rel=1e-9, abs=0)
-    assert out["c_total"] == pytest.approx(c, rel=1e-9, abs=0)
-    with pytest.raises(InputError, match="two points"):
-        fit_transit_time([1e-3], [3e8])
+    tau, c_je, c_mu = 250e-12, 4e-12, 1.5e-12
+    ics = np.array([0.5e-3, 1e-3, 2e-3, 5e-3])
+    fits = []
+    for i in ics:
+        gm = i / vt
+        ft = 1 / (2 * math.pi * (tau + (c_je + c_mu) * vt / i))
+        el = dict(TRUE, gm=gm, r_pi=100 / gm, c_mu=c_mu, c_pi=gm / (2 * math.pi * ft) - c_mu)
+        fits.append(extract(dm.TwoPort(FREQ, y_to_s(nodal_y(el, FREQ)), "s")))
+    out = transit_time(fits, ics, 300.0)
+    assert out["tau_f"] == pytest.approx(tau, rel=1e-6, abs=0)
+    assert out["c_total"] == pytest.approx(c_je + c_mu, rel=1e-6, abs=0)
+    assert out["c_je"] == pytest.approx(c_je, rel=1e-6, abs=0)
+    assert out["tau_f_unc"] < 1e-6 * tau and out["points"] == 4
+    with pytest.raises(InputError, match="two or more different"):
+        transit_time(fits[:1], ics[:1])
+    with pytest.raises(InputError, match="one collector current per file"):
+        transit_time(fits, ics[:3])
+    with pytest.raises(InputError, match="two or more different currents"):
+        transit_time(fits[:2], [1e-3, 1e-3])
+
+
+def test_one_transit_time_fit_in_the_package(monkeypatch):
+    """extract uses the datasheet module's fit of the law (one implementation)."""
+    import devmodels.datasheet as ds
+    import devmodels.extract as ex
+
+    assert not hasattr(ex, "fit_transit_time")
+    seen = []
+    real = ds.fit_transit_time
+    monkeypatch.setattr(ds, "fit_transit_time", lambda *a, **k: seen.append(a) or real(*a, **k))
+    fits = [extract(dm.TwoPort(FREQ, y_to_s(nodal_y(dict(TRUE, gm=g), FREQ)), "s")) for g in (0.04, 0.08)]
+    ex.transit_time(fits, [1e-3, 3e-3])
+    assert len(seen) == 1 and list(seen[0][1]) == [1e-3, 3e-3]
+    monkeypatch.undo()
+    # its uncertainties: the least-squares covariance, checked against numpy.polyfit's (numpy)
+    vt = dm.thermal_voltage(300.0)
+    ics = np.array([0.5e-3, 1e-3, 2e-3, 5e-3, 8e-3])
+    ft = 1 / (2 * math.pi * (250e-12 + 5e-12 * vt / ics)) * np.array([1.0, 1.01, 0.99, 1.005, 0.998])
+    fit = ds.fit_transit_time(ft, ics, 300.0)
+    _, cov = np.polyfit(vt / ics, 1 / (2 * math.pi * ft), 1, cov="unscaled")
+    r = 1 / (2 * math.pi * ft) - (fit.tau_f + fit.c_sum * vt / ics)
+    s2 = float(r @ r) / (ics.size - 2)
+    assert fit.c_sum_unc == pytest.approx(math.sqrt(cov[0, 0] * s2), rel=1e-9)
+    assert fit.tau_f_unc == pytest.approx(math.sqrt(cov[1, 1] * s2), rel=1e-9)
+    assert ds.fit_transit_time(ft[:2], ics[:2]).tau_f_unc is None
 
 
 def test_import_does_not_load_heavy_libraries():

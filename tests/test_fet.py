@@ -195,3 +195,31 @@ def test_configuration_family_is_checked():
         dm.Stage(h, "cs")
     assert dm.Stage(m, "cd").config == "cd"
     assert dm.Stage(m).config == "cs" and dm.Stage(h).config == "ce"  # the default: the first
+
+
+# --- lead inductances (issue 14) -------------------------------------------------------------------
+
+@pytest.mark.parametrize("config", ["cs", "cg", "cd"])
+def test_fet_lead_inductances_add_to_the_z_parameters(config):
+    # Series impedances at the terminals add to the two-port's Z parameters (input lead to z11,
+    # output lead to z22, common lead to all four; the series-element rule, from memory).
+    leads = dict(l_g=0.9e-9, l_d=0.6e-9, l_s=0.25e-9)
+    bias = MosfetBias(id=2e-3, vds=3.0, vov=0.2, lambda_=0.05, cgs=1e-12, cgd=0.1e-12, rg=8.0)
+    packaged = FetModel.from_bias(MosfetBias(id=2e-3, vds=3.0, vov=0.2, lambda_=0.05, cgs=1e-12, cgd=0.1e-12,
+                                             rg=8.0, **leads))
+    assert (packaged.l_g, packaged.l_d, packaged.l_s) == (0.9e-9, 0.6e-9, 0.25e-9)
+    f = np.logspace(6, 10.3, 50)
+    z0 = dm.Stage(FetModel.from_bias(bias), config).two_port(f, "z").data
+    z1 = dm.Stage(packaged, config).two_port(f, "z").data
+    p1, p2, common = {"cs": "gds", "cg": "sdg", "cd": "gsd"}[config]
+    lin, lout, lcom = leads["l_" + p1], leads["l_" + p2], leads["l_" + common]
+    jw = 2j * np.pi * f
+    add = np.stack([np.stack([jw * (lin + lcom), jw * lcom], -1), np.stack([jw * lcom, jw * (lout + lcom)], -1)], -2)
+    assert np.allclose(z1, z0 + add, rtol=1e-9, atol=0)
+
+
+def test_jfet_bias_carries_lead_inductances_and_refuses_negative_ones():
+    b = JfetBias(id=2e-3, vds=5.0, idss=8e-3, vp=-2.0, cgs=2e-12, l_s=0.3e-9)
+    assert FetModel.from_bias(b).l_s == 0.3e-9
+    with pytest.raises(dm.InputError, match="l_g: expected a value >= 0"):
+        JfetBias(id=2e-3, vds=5.0, idss=8e-3, vp=-2.0, l_g=-1e-9)

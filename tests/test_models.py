@@ -79,6 +79,7 @@ def test_negative_c_pi_is_an_input_error():
     dict(),
     dict(rb=75.0),
     dict(rb=75.0, rcx=12.0, rex=2.0, rmu=5e7),
+    dict(rb=75.0, rex=2.0, l_b=1.2e-9, l_c=0.7e-9, l_e=0.4e-9),
 ])
 def test_hybrid_pi_and_t_model_terminal_admittances_agree(extras):
     # The T model (emitter branch re || C_e, source alpha(jw) i_e) and the hybrid-pi are
@@ -93,3 +94,43 @@ def test_hybrid_pi_and_t_model_terminal_admittances_agree(extras):
         c = dm.Stage(t, "ce", rdeg, rfb).indefinite(f)
         scale = np.abs(a).max(axis=(1, 2))[:, None, None]
         assert np.max(np.abs(a - c) / scale) < 1e-12
+
+
+# --- lead inductances (issue 14) -------------------------------------------------------------------
+
+@pytest.mark.parametrize("config", ["ce", "cb", "cc"])
+def test_lead_inductances_add_to_the_z_parameters(config):
+    # Series impedances at the terminals add to the Z parameters of the two-port (Z = Z_device +
+    # the T network of the leads: the input lead adds to z11, the output lead to z22, the common
+    # lead to all four; the series-element rule of two-port algebra, from memory).
+    leads = dict(l_b=1.2e-9, l_c=0.7e-9, l_e=0.4e-9)
+    b = dm.BipolarBias(ic=3e-3, vce=6.0, beta=120, va=70.0, ft=600e6, cmu=1.2e-12, rb=75.0, rex=2.0)
+    bare = dm.HybridPi.from_bias(b)
+    packaged = dm.HybridPi.from_bias(dm.BipolarBias(**{**{f: getattr(b, f) for f in
+                                                           ("ic", "vce", "beta", "va", "ft", "cmu", "rb", "rex")},
+                                                        **leads}))
+    assert (packaged.l_b, packaged.l_c, packaged.l_e) == (1.2e-9, 0.7e-9, 0.4e-9)
+    f = np.logspace(5, 10.3, 60)
+    z0 = dm.Stage(bare, config).two_port(f, "z").data
+    z1 = dm.Stage(packaged, config).two_port(f, "z").data
+    p1, p2, common = {"ce": "bce", "cb": "ecb", "cc": "bec"}[config]
+    lin, lout, lcom = leads["l_" + p1], leads["l_" + p2], leads["l_" + common]
+    jw = 2j * np.pi * f
+    add = np.stack([np.stack([jw * (lin + lcom), jw * lcom], -1), np.stack([jw * lcom, jw * (lout + lcom)], -1)], -2)
+    assert np.allclose(z1, z0 + add, rtol=1e-9, atol=0)
+
+
+def test_without_leads_is_the_model_at_0_hz():
+    m = dm.HybridPi(gm=0.04, r_pi=2500.0, ro=5e4, rb=60.0, l_b=1e-9, l_e=0.5e-9)
+    bare = dm.models.without_leads(m)
+    assert (bare.l_b, bare.l_c, bare.l_e) == (0.0, 0.0, 0.0) and bare.rb == 60.0
+    assert dm.models.without_leads(bare) is bare
+    assert not any(e.kind == "inductor" for e in bare.netlist().elements)
+    # a lead inductance is a short at 0 Hz: the lead-free model is the limit of low frequency
+    lo = dm.Stage(m, "ce").two_port([1e-3], "y").data
+    dc = dm.Stage(bare, "ce").two_port([0.0], "y").data
+    assert np.max(np.abs(lo - dc)) <= 1e-12 * np.abs(dc).max()
+    with pytest.raises(dm.InputError, match="l_b: expected a finite value >= 0"):
+        dm.HybridPi(gm=0.04, r_pi=2500.0, l_b=-1e-9)
+    with pytest.raises(dm.InputError, match="l_e: expected a value >= 0"):
+        dm.BipolarBias(ic=1e-3, vce=5.0, beta=100, l_e=-1e-9)

@@ -221,3 +221,48 @@ def test_fet_channel_noise_and_flicker():
         _, C = reduce_with_noise(st.netlist(), st.terminals, 2 * np.pi * f, 1)
         assert C[0, 1, 1].real == pytest.approx(want, rel=1e-12)
         assert C[0, 0, 0] == 0  # no gate resistance: no gate noise
+
+
+# --- the inductor element (issue 14) ------------------------------------------------------------
+
+def test_inductor_stamps_one_over_jwl_and_a_series_rl_is_r_plus_jwl():
+    # A series R-L between two terminals: impedance R + jwL (the definition of impedance; from
+    # memory), so the indefinite matrix is y [[1, -1], [-1, 1]] with y = 1/(R + jwL).
+    from devmodels.netlist import Netlist, inductor, reduce_to, resistor
+
+    el = inductor("l_b", "a", "m", 2e-9)
+    assert el.kind == "inductor" and el.admittance(1j * 1e9) == pytest.approx(1 / (1j * 1e9 * 2e-9), rel=1e-15)
+    net = Netlist((el, resistor("r", "m", "b", 5.0)))
+    w = 2 * np.pi * np.array([1e3, 1e8, 1e10])
+    Y = reduce_to(net, ("a", "b"), w, w.size)
+    want = 1 / (5.0 + 1j * w * 2e-9)
+    for k in range(w.size):
+        assert Y[k, 0, 0].real == pytest.approx(want[k].real, rel=1e-12, abs=0)
+        assert Y[k, 0, 0].imag == pytest.approx(want[k].imag, rel=1e-12, abs=0)
+        assert Y[k, 0, 1] == pytest.approx(-want[k], rel=1e-12)
+
+
+def test_inductor_refuses_0_hz_naming_itself():
+    from devmodels.netlist import Netlist, inductor, reduce_to, resistor
+
+    net = Netlist((inductor("l_e", "a", "m", 1e-9), resistor("r", "m", "b", 5.0)))
+    with pytest.raises(dm.InputError, match=r"^l_e: an inductor is a short at 0 Hz"):
+        reduce_to(net, ("a", "b"), np.array([0.0, 1e6]), 2)
+    m = dm.HybridPi(gm=0.04, r_pi=2500.0, l_b=1e-9)
+    with pytest.raises(dm.InputError, match=r"^l_b: "):
+        dm.Stage(m, "ce").two_port([0.0])
+
+
+def test_inductor_kind_and_nodes_checked():
+    from devmodels.netlist import Element
+
+    with pytest.raises(dm.InputError, match="nodes: a inductor takes 2 nodes"):
+        Element("inductor", "l_b", ("a", "b", "c"), 1e-9)
+    with pytest.raises(dm.InputError, match="kind: unknown element kind 'coil'"):
+        Element("coil", "l_b", ("a", "b"), 1e-9)
+
+
+def test_zero_lead_inductance_is_no_element():
+    m = dm.HybridPi(gm=0.04, r_pi=2500.0, rb=50.0, l_b=0.0, l_e=1e-9)
+    kinds = {e.name: e.kind for e in m.netlist().elements}
+    assert "l_b" not in kinds and kinds["l_e"] == "inductor"

@@ -156,3 +156,47 @@ def test_stage_with_its_network_in_symbols():
     for freq in (3.0, 300.0, 30e3):
         chk = engine_check(f, st, freq, 600.0, 10e3)
         assert chk.rel_diff < 1e-9
+
+
+# --- lead inductances (issue 14) -------------------------------------------------------------------
+
+@pytest.mark.parametrize("config", ["ce", "cb", "cs", "cd"])
+def test_formulas_with_lead_inductances_equal_the_engine(config):
+    # Inductors stamped 1/(s L) in the sympy route against the numeric engine's 1/(jwL).
+    import dataclasses
+
+    rng = np.random.default_rng(11 + sum(map(ord, config)))
+    fet = config in ("cs", "cg", "cd")
+    leads = {n: float(rng.uniform(0.2e-9, 2e-9)) for n in (("l_g", "l_d", "l_s") if fet else ("l_b", "l_c", "l_e"))}
+    base = _random_fet(rng) if fet else _random_bjt(rng)
+    model = dataclasses.replace(base, **leads)
+    _check(config, model, ("av", "zin"), rng)
+
+
+def test_ce_input_impedance_with_emitter_lead_inductance():
+    # By hand (KVL around the input; from memory): the base current i sets v_pi = i Z_pi, the
+    # emitter lead carries i (1 + gm Z_pi), so zin = s (L_b + L_e) + Z_pi + s L_e gm Z_pi with
+    # Z_pi = r_pi / (1 + s C_pi r_pi); its real part has the familiar gm L_e / C_pi at high
+    # frequency.  sympy checks that the derived formula equals it identically.
+    f = derive("ce", "zin", {"gm", "r_pi", "c_pi", "l_b", "l_e"}, rs=False, rl=True)  # R_L: no effect here
+    s = sp.Symbol("s")
+    gm, r_pi, c_pi, l_b, l_e = (sp.Symbol(n, positive=True) for n in ("gm", "r_pi", "c_pi", "l_b", "l_e"))
+    z_pi = r_pi / (1 + s * c_pi * r_pi)
+    want = s * (l_b + l_e) + z_pi + s * l_e * gm * z_pi
+    assert sp.simplify(f.expr - want) == 0
+
+
+def test_low_frequency_shorts_the_lead_inductances():
+    with_leads = derive("ce", "av", {"gm", "r_pi", "ro", "rb", "rex", "l_b", "l_c", "l_e"}, low_frequency=True)
+    without = derive("ce", "av", {"gm", "r_pi", "ro", "rb", "rex"}, low_frequency=True)
+    assert sp.simplify(with_leads.expr - without.expr) == 0
+    assert not {"l_b", "l_c", "l_e"} & set(with_leads.names)
+
+
+def test_engine_check_at_0_hz_leaves_the_leads_out():
+    from devmodels.symbolic import engine_check
+
+    m = dm.HybridPi(gm=0.04, r_pi=2500.0, ro=50e3, rb=60.0, rex=1.0, l_b=1e-9, l_e=0.5e-9)
+    f = derive("ce", "av", {"gm", "r_pi", "ro", "rb", "rex", "l_b", "l_e"}, low_frequency=True)
+    chk = engine_check(f, dm.Stage(m, "ce"), 0.0, 50.0, 1e3)
+    assert chk.rel_diff is not None and chk.rel_diff < 1e-12

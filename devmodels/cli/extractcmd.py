@@ -5,6 +5,9 @@ against a collector current (:func:`devmodels.extract.bias_consistency`), writes
 text (:func:`devmodels.extract.bias_toml`) and draws the fit (:func:`devmodels.extract.plot_fit`);
 this module reads the options, checks the destinations before the fit, writes the file through
 the atomic writer and shows the results.
+
+Several files (one ``--ic`` each, in the same order) are fitted one by one, and tau_F and C_je
+are fitted to their fT against IC (:func:`devmodels.extract.transit_time`).
 """
 
 from __future__ import annotations
@@ -25,25 +28,30 @@ from .render import emit_json, note, print_table, warn
 #: Configuration of the data without --config.
 DEFAULT_CONFIG = "ce"
 #: Unit symbol of each element in tables.
-_SYMBOL = {"S": "S", "Ohm": "Ω", "F": "F"}
+_SYMBOL = {"S": "S", "Ohm": "Ω", "F": "F", "H": "H"}
 
-_FileArg = Annotated[Path, typer.Argument(
-    help="A two-port Touchstone file (.s2p, .ts) of the device, measured in --config.", show_default=False,
-    metavar="FILE")]
+_FileArg = Annotated[list[Path], typer.Argument(
+    help="Two-port Touchstone files (.s2p, .ts) of the device, measured in --config; several files at "
+         "several currents (one --ic each, in order) also fit tau_F and C_je.", show_default=False,
+    metavar="FILE...")]
 _ConfigOpt = Annotated[Optional[str], typer.Option(
     "--config", "-c", help="Configuration the device was measured in: ce, cb, cc (hybrid-pi) or cs, cg, cd (FET) "
                             "(default: ce).", metavar="CONFIG", show_default=False)]
 _ParasiticsOpt = Annotated[Optional[str], typer.Option(
-    "--parasitics", help="Optional elements to fit as well, comma separated: rex, rcx, c_pad_in, c_pad_out "
-                         "(a FET: rsx, rdx, c_pad_in, c_pad_out) (default: none).",
+    "--parasitics", help="Optional elements to fit as well, comma separated: rex, rcx, c_pad_in, c_pad_out, "
+                         "lead inductances l_b, l_c, l_e (a FET: rsx, rdx, c_pad_in, c_pad_out, l_g, l_d, "
+                         "l_s) (default: none).",
     show_default=False, metavar="NAME[,NAME]")]
 _FixOpt = Annotated[Optional[list[str]], typer.Option(
     "--fix", help="Hold an element at a value instead of fitting it, NAME=VALUE with its unit (gm=40mS, "
                   "rb=50, c_mu=1.2pF); repeat for more.", show_default=False, metavar="NAME=VALUE")]
-_IcOpt = Annotated[Optional[str], typer.Option(
+_IcOpt = Annotated[Optional[list[str]], typer.Option(
     "--ic", help="Collector current of the measurement, A: compares the fitted gm with IC/VT (ideality, "
-                 "excess emitter resistance).", show_default=False,
-    metavar="AMPERE")]
+                 "excess emitter resistance); with several files, one --ic per file, in order.",
+    show_default=False, metavar="AMPERE")]
+_TransitOpt = Annotated[bool, typer.Option(
+    "--transit-time", help="Fit tau_F and C_je to fT against IC across the files (needs files at two or more "
+                           "currents; implied by several files).")]
 _TempOpt = Annotated[Optional[str], typer.Option(
     "--temp", help="Temperature of the measurement, K (or 27C) (default 300 K): VT of the --ic check and "
                    "of the bias file.", show_default=False, metavar="KELVIN")]
@@ -66,9 +74,11 @@ def _family_elements(config: str) -> tuple[tuple[str, ...], tuple[str, ...]]:
 
 
 def _unit(name: str) -> str:
-    """Unit key of an element: gm in S, capacitances in F, resistances in ohm."""
+    """Unit key of an element: gm in S, capacitances in F, lead inductances in H, resistances in ohm."""
     if name == "gm":
         return "S"
+    if name.startswith("l_"):
+        return "H"
     return "F" if name.startswith("c") else "Ohm"
 
 
@@ -139,29 +149,48 @@ def _nonzero(name: str, value: float | None, text: str | None, what: str) -> flo
 @command("extract")
 def extract_cmd(file: _FileArg, config: _ConfigOpt = None, parasitics: _ParasiticsOpt = None, fix: _FixOpt = None,
                 ic: _IcOpt = None, temp: _TempOpt = None, vce: _VceOpt = None, device: _DeviceOpt = "npn",
-                out: _OutOpt = None, plot: PlotOpt = None, as_json: JsonOpt = False) -> None:
+                out: _OutOpt = None, plot: PlotOpt = None, transit: _TransitOpt = False,
+                as_json: JsonOpt = False) -> None:
     """Fit the small-signal model to a measured two-port: each element with its standard uncertainty.
 
     ce, cb, cc data give the hybrid-pi (gm, r_pi, c_pi, c_mu, rb, ro); cs, cg, cd data a FET (gm, cgs, cgd, ro, rg).
 
     The fit starts from direct estimates at the ends of the band and weighs every S parameter by its own magnitude.
 
-    Warnings name the elements the data do not determine.
+    Warnings name the elements the data do not determine.  Several files at several collector currents
+    (one --ic each) also give tau_F and C_je from fT against IC.
     """
     from ..constants import FET_CONFIGS
 
+    files = list(file)
     cfg = check_config(config) if config is not None else DEFAULT_CONFIG
     fet = cfg in FET_CONFIGS
     extra = _parasitics(parasitics, cfg)
     fixed = _fixed(fix, cfg, extra)
-    i_c = _nonzero("ic", _key("ic", ic), ic, "a collector current")
+    currents = [_nonzero("ic", _key("ic", text), text, "a collector current") for text in ic or ()]
     v_ce = _nonzero("vce", _key("vce", vce), vce, "a collector-emitter voltage")
     kelvin = _key("temp", temp) if temp is not None else 300.0
     dev = _key("device", device)
     if dev not in ("npn", "pnp"):
         raise InputError(f"device: the bias file of a hybrid-pi fit takes npn or pnp, got {dev}")
-    if fet and i_c is not None:
+    if fet and currents:
         raise InputError(f"ic: the gm check against IC/VT is for a bipolar fit (ce, cb, cc), not {cfg}")
+    several = len(files) > 1 or transit
+    if several:
+        if fet:
+            raise InputError(f"config: the transit-time fit of several files is for a bipolar device (ce, cb, cc), "
+                             f"not {cfg}")
+        if len(files) < 2:
+            raise InputError("transit-time: the fit of tau_F and C_je needs files at two or more different "
+                             "collector currents, got 1 file")
+        if len(currents) != len(files):
+            raise InputError(f"ic: expected one collector current per file, in the same order ({len(files)} files), "
+                             f"got {len(currents)}")
+        for name, given in (("out", out), ("plot", plot)):
+            if given is not None:
+                raise InputError(f"{name}: written for one file; fit the files one at a time for --{name}")
+    elif len(currents) > 1:
+        raise InputError(f"ic: expected one collector current for one file, got {len(currents)}")
     if out is not None:
         from ..fileio import check_destination
 
@@ -187,30 +216,51 @@ def extract_cmd(file: _FileArg, config: _ConfigOpt = None, parasitics: _Parasiti
         if tw:
             warn(tw)
 
-    result, messages = _fit(file, cfg, extra, fixed)
-    check = None
-    if i_c is not None:
+    fits = []
+    messages: list[str] = []
+    for path in files:
+        result, notes = _fit(path, cfg, extra, fixed)
+        fits.append(result)
+        for m in notes:
+            m = f"{path.name}: {m}" if several else m
+            if m not in messages:
+                messages.append(m)
+    checks = [None] * len(fits)
+    if currents:
         from ..extract import bias_consistency
 
-        check = bias_consistency(result.elements["gm"], i_c, kelvin)
+        checks = [bias_consistency(r.elements["gm"], i_c, kelvin) for r, i_c in zip(fits, currents)]
+    transit_fit = None
+    if several:
+        from ..extract import transit_time
+
+        transit_fit = transit_time(fits, currents, kelvin)
     if out is not None:
         from ..extract import bias_toml
         from ..fileio import atomic_write_text
 
-        atomic_write_text(out, bias_toml(result, v_ce, temp=kelvin, device=dev), option="out")
+        atomic_write_text(out, bias_toml(fits[0], v_ce, temp=kelvin, device=dev), option="out")
     if plot is not None:
         from ..extract import plot_fit
 
-        plot_fit(result, plot, option="plot")
+        plot_fit(fits[0], plot, option="plot")
     for m in messages:
         warn(m)
     if as_json:
-        obj = result.as_dict()
-        if check is not None:
-            obj["consistency"] = dict(check, ic=i_c, temp=kelvin)
-        emit_json(obj)
+        objs = []
+        for path, r, check, i_c in zip(files, fits, checks, currents or [None] * len(fits)):
+            obj = r.as_dict()
+            if check is not None:
+                obj["consistency"] = dict(check, ic=i_c, temp=kelvin)
+            if several:
+                obj = dict(obj, file=str(path), ic=i_c, ft=r.ft)
+            objs.append(obj)
+        emit_json({"files": objs, "transit_time": transit_fit} if several else objs[0])
     else:
-        _print_result(result, file, check, i_c, kelvin)
+        for path, r, check, i_c in zip(files, fits, checks, currents or [None] * len(fits)):
+            _print_result(r, path, check, i_c, kelvin)
+        if transit_fit is not None:
+            _print_transit(transit_fit)
     if out is not None:
         note(f"bias file written to {out}")
     if plot is not None:
@@ -269,3 +319,18 @@ def _print_result(result, file: Path, check: dict | None, ic: float | None, temp
         print_table(f"gm against IC = {format_si(ic, 'A')} at T = {temp:.2f} K", ["quantity", "value"], rows,
                     caption="n = (IC/VT)/gm; excess emitter resistance 1/gm - VT/IC (negative: gm above IC/VT, "
                             "which no series resistance explains)")
+
+
+def _print_transit(t: dict) -> None:
+    def unc(v, sym):
+        return "—" if v is None else format_si(v, sym)
+
+    rows = [["tau_F", format_si(t["tau_f"], "s"), unc(t["tau_f_unc"], "s")],
+            ["C_je + C_mu", format_si(t["c_total"], "F"), unc(t["c_total_unc"], "F")],
+            ["C_mu (mean fitted)", format_si(t["c_mu"], "F"), "—"],
+            ["C_je", format_si(t["c_je"], "F"), unc(t["c_je_unc"], "F")]]
+    rows += [[f"fT at IC = {format_si(i, 'A')}", format_si(f, "Hz"), "—"] for i, f in zip(t["ic"], t["ft"])]
+    print_table(f"Transit time from fT against IC ({t['points']} files, T = {t['temp']:.2f} K)",
+                ["quantity", "value", "standard uncertainty"], rows,
+                caption=f"1/(2 pi fT) = tau_F + (C_je + C_mu) VT/IC; largest relative misfit {t['rel_residual']:.3g}"
+                        + ("; two files: no residual, no uncertainty" if t["points"] == 2 else ""))
