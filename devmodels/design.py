@@ -28,12 +28,34 @@ practice, no source, and both are parameters):
    limits (beta, temperature, each resistor at :math:`1 \pm` tol) in one call of
    :func:`devmodels.dcbias.solve_arrays`.  A combination is acceptable when every vertex is
    in the forward-active region (and, with ``ic_band``, the worst-case IC is inside
-   target :math:`\times (1 \pm` ``ic_band``)); among the acceptable ones the nominal IC
-   closest to the target (smallest :math:`|\ln(I_C/I_{C,target})|`) wins, ties broken by
-   the nominal VCE closest to its target.
-5. **Accuracy**: the chosen nominal IC must be within half a series step of the target,
+   target :math:`\times (1 \pm` ``ic_band``)).
+5. **The stability rule comes first** (:func:`rule_check`).  It holds on a combination when
+
+   * :math:`R_E` is one of the two series neighbours of the ideal :math:`R_E` (the emitter
+     voltage is the chosen fraction of the supply at the target current, within one series
+     step), and
+   * ``divider`` only: :math:`R_2` is one of the two series neighbours of the ideal
+     :math:`R_2`, and at the nominal point of the chosen parts the current in :math:`R_2`,
+     :math:`V_B/R_2`, is at least ``divider_factor`` times :math:`I_C/\beta_{low}`.
+
+   Among the acceptable combinations that meet the rule, the nominal IC closest to the target
+   (smallest :math:`|\ln(I_C/I_{C,target})|`) wins, ties broken by the nominal VCE closest to
+   its target.
+6. **Accuracy**: the chosen nominal IC must be within half a series step of the target,
    :math:`|I_C/I_{C,target} - 1| \le 10^{1/(2n)} - 1` (:func:`ic_accuracy`: E12 10.1 %,
-   E24 4.9 %, E48 2.4 %, E96 1.2 %); otherwise the target is refused as unreachable.
+   E24 4.9 %, E48 2.4 %, E96 1.2 %).  When no combination meets the rule *and* this accuracy,
+   the rule is relaxed in three stated steps: first :math:`R_2` may lie beyond its neighbours
+   (with :math:`R_E` a neighbour and the divider current still at least ``divider_factor``
+   times the base current: the rule as stated still holds), then :math:`R_E` may as well,
+   then the divider-current condition is dropped.  Each relaxation is
+   reported in :attr:`BiasDesign.notes`; when even that does not reach the accuracy, the
+   target is refused as unreachable.
+7. **Ratings**: with ``pmax`` and ``vceo`` given, the dissipation and VCE at the nominal point
+   and their largest values over the box of limits (:func:`devmodels.worstcase.worst_case`:
+   the dissipation is not monotonic, it peaks where VCE is about half the supply), and the
+   supply, which a cut-off transistor sees, are compared with them
+   (:func:`devmodels.dcbias.rating_warnings`, the sentences every command prints); the
+   sentences are in :attr:`BiasDesign.warnings`.
 
 The worst case is taken over the vertices.  In the forward-active region IC and VCE of all
 three networks are monotonic in beta, VBE(on) (so in temperature) and in each resistor
@@ -50,14 +72,14 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .bias import DEFAULT_VCE_SAT
-from .dcbias import NETWORK_KINDS, REGIONS, BiasNetwork, solve_arrays
+from .dcbias import NETWORK_KINDS, REGIONS, BiasNetwork, rating_warnings, solve_arrays
 from .eseries import check_series, neighbours, step_ratio, values_between
 from .exceptions import InputError
 from .temperature import BETA_TC_DEFAULT, T_REF, VBE_DEFAULT, VBE_TC_DEFAULT, beta_at, vbe_at
 from .units import format_si
 from .worstcase import vertices
 
-__all__ = ["BiasDesign", "design_bias", "design_toml", "ideal_values", "ic_accuracy", "VE_FRACTION",
+__all__ = ["BiasDesign", "design_bias", "design_toml", "ideal_values", "ic_accuracy", "rule_check", "VE_FRACTION",
            "DIVIDER_FACTOR", "R_MIN", "R_MAX"]
 
 #: Emitter voltage as a fraction of the supply (common practice, no source).
@@ -117,6 +139,25 @@ class BiasDesign:
         ``vbe_tc``, ``beta_tc``, ``t_ref``, ``vce_sat``, ``ve_fraction``, ``divider_factor``.
     candidates : int
         Number of combinations searched.
+    ve : float
+        Emitter voltage at the nominal point of the chosen parts, V.
+    divider_ratio : float or None
+        ``divider``: the current in R2 at the nominal point over IC / beta_low (the divider rule
+        asks for at least ``divider_factor``); None for the other networks.
+    beta_low : float
+        Lowest beta of the limits (at the temperature limit where it is lowest).
+    rule : str
+        ``"met"``: the stability rule of the module docstring (step 5) holds on the chosen parts;
+        ``"r2 beyond neighbours"``: it holds with R2 further from its ideal value (re is a
+        neighbour, the divider current is at least ``divider_factor`` times the base current);
+        ``"re beyond neighbours"``: the divider-current condition holds, re is not a neighbour;
+        ``"relaxed"``: the divider-current condition does not hold either.
+    notes : tuple of str
+        Sentences saying how and why the rule was relaxed (empty when it is met).
+    warnings : tuple of str
+        Rating sentences (:func:`devmodels.dcbias.rating_warnings`), empty without ratings.
+    ratings : dict
+        ``pmax`` (W) and ``vceo`` (V) as given (None: not given).
     """
 
     network: BiasNetwork
@@ -135,6 +176,13 @@ class BiasDesign:
     limits: dict = field(default_factory=dict)
     settings: dict = field(default_factory=dict)
     candidates: int = 0
+    ve: float = math.nan
+    divider_ratio: float | None = None
+    beta_low: float = math.nan
+    rule: str = "met"
+    notes: tuple[str, ...] = ()
+    warnings: tuple[str, ...] = ()
+    ratings: dict = field(default_factory=dict)
 
     def as_dict(self) -> dict:
         """The JSON object of ``devmodels design``: ``network``, ``series``, ``ic``, ``vce``,
@@ -238,6 +286,46 @@ def _candidates(x: float, series: str, search: int, r_min: float, r_max: float) 
     return c[(c >= r_min * (1 - 1e-12)) & (c <= r_max * (1 + 1e-12))]
 
 
+#: The resistors whose ideal value the stability rule fixes (step 5 of the module docstring).
+RULE_RESISTORS = {"divider": ("re", "r2"), "fixed": ("re",), "collector-feedback": ("re",)}
+
+
+def rule_check(network: str, resistors: dict, ideal: dict, series: str, vb, ic, beta_low: float,
+               divider_factor: float = DIVIDER_FACTOR) -> tuple[np.ndarray, np.ndarray, np.ndarray | None]:
+    """Whether the stability rule (step 5 of the module docstring) holds on resistor values.
+
+    Parameters
+    ----------
+    network : {'divider', 'fixed', 'collector-feedback'}
+    resistors : dict of str -> float or ndarray
+        Chosen values in ohm by ``[network]`` key (arrays: one combination per element).
+    ideal : dict of str -> float
+        Ideal values in ohm (:func:`ideal_values`).
+    series : {'E12', 'E24', 'E48', 'E96'}
+    vb, ic : float or ndarray
+        Base voltage (V) and collector current (A) at the nominal point of each combination.
+    beta_low : float
+        Lowest beta of the limits.
+    divider_factor : float
+        Divider current over the base current at the lowest beta (common practice, no source).
+
+    Returns
+    -------
+    (ndarray of bool, ndarray of bool, ndarray or None)
+        Every rule resistor is a series neighbour of its ideal value; the divider current is at
+        least ``divider_factor`` IC / beta_low (always True for the other networks); and that
+        ratio (``divider`` only).
+    """
+    near = np.ones(np.shape(np.asarray(resistors[RULE_RESISTORS[network][0]])), dtype=bool)
+    for name in RULE_RESISTORS[network]:
+        near &= _neighbour_of(resistors[name], ideal[name], series)
+    if network != "divider":
+        return near, np.ones_like(near), None
+    ratio = (np.asarray(vb, dtype=float) / np.asarray(resistors["r2"], dtype=float)) / (np.asarray(ic, dtype=float)
+                                                                                     / beta_low)
+    return near, ratio >= divider_factor * (1 - 1e-12), ratio
+
+
 def design_bias(network: str, vcc: float, ic: float, *, beta_min: float, beta_max: float,
                 beta: float | None = None, series: str = "E24", vce: float | None = None,
                 temp: float | None = None, temp_min: float | None = None, temp_max: float | None = None,
@@ -245,7 +333,7 @@ def design_bias(network: str, vcc: float, ic: float, *, beta_min: float, beta_ma
                 beta_tc: float = BETA_TC_DEFAULT, t_ref: float = T_REF, vce_sat: float = DEFAULT_VCE_SAT,
                 ve_fraction: float = VE_FRACTION, divider_factor: float = DIVIDER_FACTOR,
                 ic_band: float | None = None, r_min: float = R_MIN, r_max: float = R_MAX,
-                search: int = 1) -> BiasDesign:
+                search: int = 1, pmax: float | None = None, vceo: float | None = None) -> BiasDesign:
     """Design a bias network for a target IC with preferred resistor values (module docstring).
 
     Parameters
@@ -286,6 +374,9 @@ def design_bias(network: str, vcc: float, ic: float, *, beta_min: float, beta_ma
         Range of resistor values allowed, ohm.
     search : int
         Extra series members tried on each side of the two neighbours of each ideal value.
+    pmax, vceo : float or None
+        Power rating (W) and breakdown rating VCEO (V) of the transistor: the design warns
+        (:attr:`BiasDesign.warnings`) where the nominal point, a vertex or the supply exceeds them.
 
     Returns
     -------
@@ -331,6 +422,8 @@ def design_bias(network: str, vcc: float, ic: float, *, beta_min: float, beta_ma
     if isinstance(search, bool) or not isinstance(search, int) or not 0 <= search <= 4:
         raise InputError(f"search: expected a whole number from 0 to 4, got {search!r}")
     vbe_ref = _positive("vbe", vbe, "V")
+    pmax = None if pmax is None else _positive("pmax", pmax, "W")
+    vceo = None if vceo is None else _positive("vceo", vceo, "V")
 
     b_nom = beta_at(temp, beta_ref, beta_tc, t_ref)
     v_nom = vbe_at(temp, vbe_ref, vbe_tc, t_ref)
@@ -383,13 +476,29 @@ def design_bias(network: str, vcc: float, ic: float, *, beta_min: float, beta_ma
             f"ic: no {series} combination near the ideal values reaches the target {format_si(ic, 'A')} with "
             f"beta {beta_min:g}..{beta_max:g}, temperature {temp_min:g}..{temp_max:g} K and resistors "
             f"+-{tol * 100:g} %: {why}; lower ic, raise vcc or narrow the limits")
+    near, div_ok, ratio = rule_check(network, combos, ideal, series, op["vb"][:, 0], ic_all[:, 0], beta_low,
+                                     divider_factor)
+    re_near = _neighbour_of(combos["re"], ideal["re"], series)
     e_ic = np.abs(np.log(ic_all[:, 0] / ic))
     e_vce = np.abs(vce_all[:, 0] - vce_t) / vcc
-    e_ic = np.where(ok, e_ic, np.inf)
-    order = np.lexsort((e_vce, np.round(e_ic / 1e-9)))
-    k = int(order[0])
-    chosen = {n: float(combos[n][k]) for n in names}
     acc = ic_accuracy(series)
+
+    def pick(allowed: np.ndarray) -> int | None:
+        if not allowed.any():
+            return None
+        order = np.lexsort((e_vce, np.round(np.where(allowed, e_ic, np.inf) / 1e-9)))
+        return int(order[0])
+
+    # the stability rule first, then the closeness of IC; relaxed in stated steps (docstring)
+    tiers = [("met", ok & near & div_ok), ("r2 beyond neighbours", ok & re_near & div_ok),
+             ("re beyond neighbours", ok & div_ok), ("relaxed", ok)]
+    rule, k = tiers[-1][0], pick(ok)
+    for name, allowed in tiers:
+        kk = pick(allowed)
+        if kk is not None and abs(ic_all[kk, 0] / ic - 1.0) <= acc:
+            rule, k = name, kk
+            break
+    chosen = {n: float(combos[n][k]) for n in names}
     err = ic_all[k, 0] / ic - 1.0
     if abs(err) > acc:
         free = float(np.min(np.abs(np.log(ic_all[:, 0] / ic))))  # ignoring the vertices
@@ -403,9 +512,49 @@ def design_bias(network: str, vcc: float, ic: float, *, beta_min: float, beta_ma
             f"ic: the target {format_si(ic, 'A')} cannot be reached with {series} values: the closest "
             f"combination gives {format_si(float(ic_all[k, 0]), 'A')} ({err * 100:+.2g} %, more than half a "
             f"series step, {acc * 100:.2g} %)")
+    notes = []
+    if rule != "met":
+        k0 = pick(ok & near & div_ok)
+        why = (f"the closest combination gives IC {format_si(float(ic_all[k0, 0]), 'A')} "
+               f"({(ic_all[k0, 0] / ic - 1) * 100:+.3g} %, more than half a series step, {acc * 100:.3g} %)"
+               if k0 is not None else "no combination keeps the transistor active at every vertex"
+               + (" inside ic_band" if ic_band is not None else ""))
+        broken = [f"{n} = {format_si(chosen[n], 'ohm')} is not a series neighbour of its ideal "
+                  f"{format_si(ideal[n], 'ohm')}" for n in RULE_RESISTORS[network]
+                  if not _neighbour_of(chosen[n], ideal[n], series)]
+        ve_k = float(op["ve"][k, 0])
+        if rule == "r2 beyond neighbours":
+            broken.append(f"the divider current is still {float(ratio[k]):.3g} times the base current at the lowest "
+                          f"beta (at least {divider_factor:g}) and VE = {format_si(ve_k, 'V')} is "
+                          f"{ve_k / vcc:.3g} of the supply")
+        else:
+            broken.append(f"VE = {format_si(ve_k, 'V')} is {ve_k / vcc:.3g} of the supply (the rule: about "
+                          f"{ve_fraction:g})")
+            if ratio is not None:
+                broken.append(f"the divider current is {float(ratio[k]):.3g} times the base current at the lowest "
+                              f"beta (the rule: at least {divider_factor:g})")
+        head = {"r2 beyond neighbours": "stability rule kept, r2 moved", "re beyond neighbours":
+                "stability rule relaxed", "relaxed": "stability rule not met"}[rule]
+        rule_text = " and ".join(RULE_RESISTORS[network])
+        notes.append(f"{head}: {'; '.join(broken)}; with {rule_text} series neighbours of the ideal values "
+                     f"{why}")
     net = BiasNetwork(kind=network, vcc=vcc, tol=tol, **chosen)
     worst = {"ic": {"min": float(ic_all[k].min()), "max": float(ic_all[k].max())},
              "vce": {"min": float(vce_all[k].min()), "max": float(vce_all[k].max())}}
+    warnings = rating_warnings(float(op["power"][k, 0]), float(vce_all[k, 0]), vcc, pmax=pmax, vceo=vceo)
+    if pmax is not None or vceo is not None:
+        # the dissipation is not monotonic in the limits (largest where VCE is about half the
+        # supply): the worst case of the spread (vertices plus a bounded search) gives its maximum
+        from .spread import SpreadRanges, SpreadSetup
+        from .worstcase import worst_case
+
+        setup = SpreadSetup(network=net, vbe=vbe_ref, vbe_tc=vbe_tc, beta_tc=beta_tc, t_ref=t_ref, vce_sat=vce_sat)
+        box = SpreadRanges(beta_min=beta_min, beta_max=beta_max, temp_min=temp_min, temp_max=temp_max, tol=tol)
+        w = worst_case(setup, box, results=("power", "vce"))
+        seen = {x.split(":")[0] for x in warnings}
+        warnings += [x for x in rating_warnings(float(w["power"]["worst_max"]), float(w["vce"]["worst_max"]), vcc,
+                                                pmax=pmax, vceo=vceo, where=" at the worst case of the limits")
+                     if x.split(":")[0] not in seen]
     return BiasDesign(network=net, series=series, ic=float(ic_all[k, 0]), vce=float(vce_all[k, 0]),
                       beta=float(b_nom), vbe=float(v_nom), worst=worst, target_ic=ic, target_vce=vce_t,
                       ideal=ideal, temp=temp, beta_ref=beta_ref, vbe_ref=vbe_ref,
@@ -413,7 +562,16 @@ def design_bias(network: str, vcc: float, ic: float, *, beta_min: float, beta_ma
                               "temp_max": temp_max, "tol": tol},
                       settings={"vbe_tc": vbe_tc, "beta_tc": beta_tc, "t_ref": t_ref, "vce_sat": vce_sat,
                                 "ve_fraction": ve_fraction, "divider_factor": divider_factor},
-                      candidates=m)
+                      candidates=m, ve=float(op["ve"][k, 0]),
+                      divider_ratio=None if ratio is None else float(ratio[k]), beta_low=float(beta_low),
+                      rule=rule, notes=tuple(notes), warnings=tuple(warnings),
+                      ratings={"pmax": pmax, "vceo": vceo})
+
+
+def _neighbour_of(x, ideal: float, series: str) -> np.ndarray:
+    """Whether each ``x`` (ohm) is one of the two series neighbours of ``ideal`` (within a relative 1e-9)."""
+    pair = np.array(neighbours(ideal, series))
+    return np.any(np.abs(np.asarray(x, dtype=float)[..., None] / pair - 1.0) <= 1e-9, axis=-1)
 
 
 def _num(x: float) -> str:
@@ -426,7 +584,8 @@ def design_toml(design: BiasDesign, *, device: str = "npn", description: str | N
 
     The file holds the flat keys ``device``, ``beta`` (nominal, at the reference temperature),
     ``vbe`` (at the reference temperature), ``temp``, ``vbe_tc``, ``beta_tc``, ``vce_sat``, the
-    spread limits ``beta_min``, ``beta_max``, ``temp_min``, ``temp_max``, and a ``[network]``
+    spread limits ``beta_min``, ``beta_max``, ``temp_min``, ``temp_max``, the ratings ``pmax`` and
+    ``vceo`` when the design was given them, and a ``[network]``
     table with ``type``, ``vcc``, the resistors (ohm) and ``tol`` (in %).  Values are SI numbers
     (percentages as ``"5%"``), so the file reads back to the same floats.
 
@@ -458,8 +617,11 @@ def design_toml(design: BiasDesign, *, device: str = "npn", description: str | N
               f"beta_min = {_num(d.limits['beta_min'])}",
               f"beta_max = {_num(d.limits['beta_max'])}",
               f"temp_min = {_num(d.limits['temp_min'])}",
-              f"temp_max = {_num(d.limits['temp_max'])}",
-              "",
+              f"temp_max = {_num(d.limits['temp_max'])}"]
+    for name, unit in (("pmax", "W"), ("vceo", "V")):
+        if d.ratings.get(name) is not None:
+            lines.append(f"{name} = {_num(d.ratings[name])}  # {format_si(d.ratings[name], unit)}")
+    lines += ["",
               "[network]",
               f'type = "{d.network.kind}"',
               f"vcc = {_num(d.network.vcc)}"]

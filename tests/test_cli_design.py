@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 import math
 import re
+import tomllib
 
 import pytest
 import typer.main
@@ -210,3 +211,68 @@ def test_unreachable_target_names_the_reachable_range(run, capsys):
         assert ("outside the resistor range" in err) == outside, (ic, err)
         if outside:
             assert code == 2
+
+
+# --- the stability rule and the ratings --------------------------------------------------------
+WIDE = ["--network", "divider", "--vcc", "9", "--ic", "2mA", "--beta-min", "80", "--beta-max", "250", "--series",
+        "E12", "--temp-min", "-40C", "--temp-max", "85C", "--tol", "5"]
+
+
+def _e12_neighbours(x: float) -> set[float]:
+    """The E12 values just below and just above x, from the IEC 60063 decade written out above."""
+    members = sorted(m * 10.0 ** d for d in range(-1, 8) for m in E12)
+    return {max(m for m in members if m <= x), min(m for m in members if m >= x)}
+
+
+def test_stability_rule_first_then_ic(run, run_json):
+    # ideal values by hand (VE = VCC/10 = 0.9 V, beta 165, IE = 2 mA * 166/165; beta_low = 80 at
+    # -40 C with 0.5 %/K = 57.3; I2 = 10 IC / beta_low, VB = 1.6 V): RE = 447.3 ohm, R2 = 4.585 kohm.
+    # Rule (common practice, no source): VE about a tenth of VCC and divider current >= 10 IB at the
+    # lowest hFE; then IC closest to the target.
+    got = run_json("design", *WIDE)
+    assert got["network"]["re"] in _e12_neighbours(447.289) == {390.0, 470.0}
+    assert got["network"]["r2"] in _e12_neighbours(4585.42) == {3900.0, 4700.0}
+    r = got["network"]
+    # the rule on the chosen parts, by hand from the reported point: VE = IE RE, VB = VE + VBE
+    ie = got["ic"] * (1 + 1 / got["beta"])
+    ve = ie * r["re"]
+    assert 0.9 / 10 ** (1 / 12) <= ve <= 0.9 * 10 ** (1 / 12)  # within one E12 step of VCC/10
+    beta_low = 80 * (1 + 0.005 * (233.15 - 300.0))  # beta_tc 0.5 %/K (the default), lowest at -40 C
+    assert (ve + got["vbe"]) / r["r2"] >= 10 * got["ic"] / beta_low
+    assert abs(got["ic"] / 2e-3 - 1) <= math.sqrt(10 ** (1 / 12)) - 1
+    assert got["worst"]["vce"]["min"] > 0.3  # active at every corner
+    code, text, err = run("design", *WIDE)
+    assert code == 0 and err == "" and "Stability rule" in text and "rule met" in text
+
+
+def test_ratings_warn_and_are_written(run, run_json, tmp_path):
+    out = tmp_path / "rated.toml"
+    nominal = run_json("bias", str(_write(run_json, tmp_path)))
+    pmax = 0.99 * nominal["power"]
+    code, text, err = run("design", *WIDE, "--pmax", repr(pmax), "--vceo", "8V", "--out", str(out), "--json")
+    assert code == 0
+    lines = err.strip().splitlines()
+    assert lines[0] == f"devmodels: bias file written to {out}"
+    warned = [x for x in lines if x.startswith("devmodels: warning: ")]
+    assert any(x.startswith("devmodels: warning: power: ") for x in warned)
+    assert any(x.startswith("devmodels: warning: vcc: the supply 9 V is above the breakdown rating vceo = 8 V")
+               for x in warned)
+    # the ratings are in the file, and the bias command reading it gives the same sentences
+    doc = tomllib.loads(out.read_text(encoding="utf-8"))
+    assert doc["pmax"] == pmax and doc["vceo"] == 8.0
+    code, _, err_bias = run("bias", str(out), "--json")
+    assert code == 0
+    nominal_power = [x for x in err_bias.strip().splitlines() if x.startswith("devmodels: warning: power: ")
+                     and "corner" not in x]
+    assert nominal_power and nominal_power[0] in warned
+    assert [x for x in err_bias.splitlines() if "vceo = 8 V" in x][0] in warned
+    # ratings the design keeps: no warning, and the file still holds them
+    code, _, err = run("design", *WIDE, "--pmax", "1W", "--vceo", "30V", "--out", str(out), "--json")
+    assert code == 0 and "warning" not in err
+    assert tomllib.loads(out.read_text(encoding="utf-8"))["vceo"] == 30.0
+
+
+def _write(run_json, tmp_path):
+    path = tmp_path / "plain.toml"
+    run_json("design", *WIDE, "--out", str(path))
+    return path

@@ -71,6 +71,40 @@ def test_network_resistor_and_bias_current(run_json):
     assert abs(out["achieved"] / 500 - 1) < 1e-6 and 1e-6 < out["value"] < 0.1
 
 
+def _gain_av(run_json, tmp_path, re: float) -> float:
+    """|av| of the built stage with re set in the file, through the gain command (rl 10k, 1 kHz)."""
+    text = Path(BUILT).read_text(encoding="utf-8")
+    assert 're = "1.42k"' in text
+    path = tmp_path / "built_re.toml"
+    path.write_text(text.replace('re = "1.42k"', f"re = {re!r}"), encoding="utf-8")
+    out = run_json("gain", str(path), "--rl", "10k", "-f", "1kHz")
+    return abs(complex(*out["points"][0]["av"]))
+
+
+@pytest.mark.parametrize("goal", [10.0, 14.0, 60.0, 150.0])
+def test_target_in_the_steep_region_above_the_bypassed_part(run_json, tmp_path, goal):
+    # re of the built stage is 1.2 kohm bypassed plus an unbypassed rest: just above 1.2 kohm the
+    # rest is small and |av| changes fast.  The gain command itself gives |av| at two values of re
+    # that bracket each target (|av| falls with re, from memory: av ~ rc||rl / (re - re_bypassed + 1/gm)).
+    a_lo, a_hi = _gain_av(run_json, tmp_path, 1201.0), _gain_av(run_json, tmp_path, 1600.0)
+    assert a_hi < goal < a_lo
+    out = run_json("solve", BUILT, "--vary", "re", "--target", f"av={goal:g}", "--rl", "10k")
+    assert 1201.0 < out["value"] < 1600.0 and out["roots"] == 1
+    assert abs(out["achieved"] / goal - 1) < 1e-6
+    # the gain command at the solved value (written into the file) meets the target to 1e-6
+    assert abs(_gain_av(run_json, tmp_path, out["value"]) / goal - 1) < 1e-6
+
+
+def test_unreachable_range_covers_the_whole_region_where_the_result_exists(run, run_json, tmp_path):
+    # the largest |av| is at re = re_bypassed = 1.2 kohm (nothing unbypassed), the edge of the
+    # values the stage accepts; the message must report it, not the largest value of a coarse grid
+    top = _gain_av(run_json, tmp_path, 1200.0)
+    line = assert_one_line_error(run, "solve", BUILT, "--vary", "re", "--target", "av=1000", "--rl", "10k")
+    assert "re from 1.2 kΩ to" in line and "values scanned" in line
+    shown = float(line.split(" to ")[-1].split(" over ")[0])
+    assert shown == pytest.approx(top, rel=1e-3)  # shown with 4 significant digits
+
+
 def test_f_low_of_one_coupling_capacitor(run_json, tmp_path):
     path = tmp_path / "one_cap.toml"
     path.write_text(ONE_CAP)

@@ -7,12 +7,13 @@ import itertools
 import json
 import tomllib
 
+import numpy as np
 import pytest
 
 from devmodels.biasfile import load_bias_file
 from devmodels.dcbias import BiasNetwork, operating_point
 from devmodels.design import design_bias, design_toml, ic_accuracy
-from devmodels.eseries import nearest, values_between
+from devmodels.eseries import nearest, neighbours, values_between
 from devmodels.exceptions import InputError
 from devmodels.schema import merge
 from devmodels.spread import SpreadRanges, SpreadSetup
@@ -78,6 +79,89 @@ def test_chosen_parts_are_members_and_their_point_is_reported(net, series, ic):
     assert abs(d.ic / ic - 1) <= ic_accuracy(series)
     assert d.worst["ic"]["min"] <= d.ic <= d.worst["ic"]["max"]
     assert d.worst["vce"]["min"] > 0.3  # active at every vertex
+
+
+# One decade of E12 as printed in IEC 60063 (written out here, not taken from devmodels.eseries).
+E12 = (10, 12, 15, 18, 22, 27, 33, 39, 47, 56, 68, 82)
+
+
+def _e12_neighbours(x: float) -> set[float]:
+    """The E12 values just below and just above x (from the decade written out above)."""
+    members = sorted(m * 10.0 ** d for d in range(-1, 8) for m in E12)
+    return {max(m for m in members if m <= x), min(m for m in members if m >= x)}
+
+
+def test_stability_rule_comes_first_on_a_wide_box():
+    # VCC = 9 V, IC = 2 mA, hFE 80..250, -40 C .. 85 C, 5 %, E12.  By hand (VBE 0.7 V, beta 165):
+    #   VE = 0.9 V, IE = 2 mA * 166/165, RE = 0.9 V / IE = 447.3 ohm (E12 neighbours 390, 470)
+    #   beta_low = 80 at -40 C (beta_tc 0.5 %/K: 80 (1 - 0.005 * 66.85) = 53.3 .. 57.3), I2 = 10 IC / beta_low,
+    #   R2 = 1.6 V / I2 = 4.585 kohm (neighbours 3.9k, 4.7k)
+    # The rule (common practice, no source): VE about a tenth of VCC, divider current >= 10 IB at the
+    # lowest hFE; then IC closest to the target.
+    lim = dict(beta_min=80.0, beta_max=250.0, temp_min=233.15, temp_max=358.15, tol=0.05)
+    d = design_bias("divider", 9.0, 2e-3, series="E12", **lim)
+    assert d.ideal["re"] == pytest.approx(447.289, rel=1e-5) and d.ideal["r2"] == pytest.approx(4585.42, rel=1e-5)
+    assert _e12_neighbours(d.ideal["re"]) == {390.0, 470.0} and _e12_neighbours(d.ideal["r2"]) == {3900.0, 4700.0}
+    assert d.network.re in _e12_neighbours(d.ideal["re"])
+    assert d.network.r2 in _e12_neighbours(d.ideal["r2"])
+    assert d.rule == "met" and d.notes == ()
+    # the rule on the chosen parts, solved independently of the design's search
+    op = operating_point(d.network, d.beta_ref, vbe=d.vbe_ref, temp=d.temp)
+    beta_low = min(beta_at(lim["temp_min"], lim["beta_min"]), beta_at(lim["temp_max"], lim["beta_min"]))
+    assert op.vb / d.network.r2 >= 10 * op.ic / beta_low
+    assert d.divider_ratio == pytest.approx(op.vb / d.network.r2 / (op.ic / beta_low), rel=1e-12)
+    step = 10 ** (1 / 12)  # one E12 step
+    assert 0.9 / step <= op.ve <= 0.9 * step and d.ve == pytest.approx(op.ve, rel=1e-12)
+    # then IC: within half a step of the target, active at every vertex
+    assert abs(op.ic / 2e-3 - 1) <= ic_accuracy("E12")
+    assert d.worst["vce"]["min"] > 0.3
+
+
+@pytest.mark.parametrize("net, series, ic", CASES)
+def test_rule_holds_or_the_trade_is_stated(net, series, ic):
+    d = design_bias(net, 9.0, ic, series=series, **LIMITS)
+    op = operating_point(d.network, d.beta_ref, vbe=d.vbe_ref, temp=d.temp)
+    beta_low = beta_at(LIMITS["temp_min"], LIMITS["beta_min"])
+    ratio_ok = net != "divider" or op.vb / d.network.r2 >= 10 * op.ic / beta_low * (1 - 1e-12)
+    near = [d.network.resistors[n] in neighbours(d.ideal[n], series) for n in ("re", "r2") if n in d.ideal]
+    if d.rule == "met":
+        assert ratio_ok and all(near) and d.notes == ()
+    else:
+        assert len(d.notes) == 1 and d.notes[0].startswith("stability rule")
+        assert (d.rule == "r2 beyond neighbours") == (ratio_ok and near[0] and not all(near))
+
+
+def test_ratings_warn_with_the_sentences_of_the_other_commands():
+    from devmodels.dcbias import rating_warnings
+
+    d = design_bias("divider", 9.0, 2e-3, series="E12", **LIMITS)
+    assert d.warnings == () and d.ratings == {"pmax": None, "vceo": None}
+    op = operating_point(d.network, d.beta_ref, vbe=d.vbe_ref, temp=d.temp)
+    # a power rating just below the nominal dissipation, a VCEO below the supply
+    d2 = design_bias("divider", 9.0, 2e-3, series="E12", pmax=0.99 * op.power, vceo=8.0, **LIMITS)
+    assert d2.network == d.network
+    assert list(d2.warnings) == rating_warnings(op.power, op.vce, 9.0, pmax=0.99 * op.power, vceo=8.0)
+    # ratings above the nominal point and the supply: no warning
+    assert design_bias("divider", 9.0, 2e-3, series="E12", pmax=1.0, vceo=30.0, **LIMITS).warnings == ()
+
+
+def test_power_rating_is_checked_at_the_worst_case_not_only_at_vertices():
+    # P = IC VCE + IB VBE is largest where VCE is about half the supply (from memory), which an inner
+    # beta reaches in a fixed-base network over hFE 80..250; the maximum over a fine grid of beta, here
+    d = design_bias("fixed", 9.0, 2e-3, series="E12", beta_min=80.0, beta_max=250.0)
+    p_grid = max(operating_point(d.network, float(b)).power for b in np.linspace(80.0, 250.0, 1701))
+    p_vertex = max(operating_point(d.network, b).power for b in (80.0, 250.0))
+    assert p_vertex < 0.9 * p_grid  # the peak is inside the box: the test can tell
+    p_nominal = operating_point(d.network, d.beta_ref).power
+    assert p_nominal < 0.999 * p_grid
+    pmax = 0.5 * (max(p_vertex, p_nominal) + p_grid)  # above the nominal point and every vertex
+    d2 = design_bias("fixed", 9.0, 2e-3, series="E12", beta_min=80.0, beta_max=250.0, pmax=pmax)
+    assert len(d2.warnings) == 1 and d2.warnings[0].startswith("power: ")
+    assert "at the worst case of the limits" in d2.warnings[0]
+    shown = float(d2.warnings[0].split("dissipates ")[1].split(" mW")[0]) * 1e-3
+    assert shown == pytest.approx(p_grid, rel=1e-3)  # 4 significant digits
+    assert design_bias("fixed", 9.0, 2e-3, series="E12", beta_min=80.0, beta_max=250.0,
+                       pmax=1.001 * p_grid).warnings == ()
 
 
 def test_accuracy_bands():

@@ -116,6 +116,48 @@ def test_trial_failures_are_gaps_and_a_failure_everywhere_is_raised():
         solve_target(never, "av", 20.0, lo=1.0, hi=1e5)
 
 
+def test_steep_result_just_inside_the_edge_of_the_accepted_values():
+    # the stage refuses x < 1 kohm (as an emitter resistor smaller than its bypassed part is
+    # refused) and rdeg = x - 1 kohm: |av| is largest at the edge and falls fast just above it
+    edge = 1e3
+
+    def build(x):
+        if x < edge:
+            raise InputError("x: below its bypassed part (invented)")
+        return _bare(x - edge)
+
+    top = _av_direct(0.0)
+    for goal in (150.0, 100.0, 20.0):
+        sol = solve_target(build, "av", goal, 1e3, 50.0, RL, lo=1.0, hi=1e7)
+        assert abs(sol.achieved / goal - 1) < 1e-6 and sol.roots == 1
+        assert abs(_av_direct(sol.value - edge) / goal - 1) < 1e-6  # the engine at the solved value
+        # from memory: |av| ~ RL / (1/gm + rdeg) for a large beta
+        assert sol.value - edge == pytest.approx(RL / goal - 1.0 / GM, rel=5.0 / BETA)
+    with pytest.raises(UnreachableTarget) as info:
+        solve_target(build, "av", 2 * top, 1e3, 50.0, RL, lo=1.0, hi=1e7)
+    assert info.value.reachable[1] == pytest.approx(top, rel=1e-6)  # the whole accepted interval
+    assert info.value.exists[0] == pytest.approx(edge, rel=1e-9) and info.value.exists[1] == 1e7
+    assert info.value.reachable[0] == pytest.approx(_av_direct(1e7 - edge), rel=1e-12)
+
+
+def test_a_peak_between_grid_values_is_located():
+    # rdeg has a narrow dip around x = e^0.3 (|av| a narrow peak), narrower than the first grid
+    def rdeg(x):
+        return 1.0 + 1e3 * (1.0 - math.exp(-((math.log(x) - 0.3) / 0.12) ** 2))
+
+    def build(x):
+        return _bare(rdeg(x))
+
+    top = _av_direct(1.0)  # the peak: rdeg = 1 ohm at x = e^0.3
+    with pytest.raises(UnreachableTarget) as info:
+        solve_target(build, "av", 2 * top, 1e3, 50.0, RL, lo=1.0, hi=1e5)
+    assert info.value.reachable[1] == pytest.approx(top, rel=1e-9)
+    goal = 0.9 * top  # reached only near the top of the peak: two roots close together
+    sol = solve_target(build, "av", goal, 1e3, 50.0, RL, lo=1.0, hi=1e5)
+    assert sol.roots == 2 and abs(sol.achieved / goal - 1) < 1e-6
+    assert abs(_av_direct(rdeg(sol.value)) / goal - 1) < 1e-6
+
+
 @pytest.mark.parametrize("kwargs", [dict(result="gain"), dict(target=0.0), dict(target=math.nan),
                                     dict(lo=10.0, hi=1.0), dict(lo=0.0)])
 def test_bad_arguments(kwargs):

@@ -17,11 +17,11 @@ from ..units import format_si, parse_quantity, shown
 from .app import command
 from .inputs import Inputs, bias_options
 from .options import JsonOpt
-from .render import emit_json, note, print_table
+from .render import emit_json, note, note_later, print_table, warn
 
 #: Keys of the input layer this command takes (the limits of ``spread`` and the DC values of a bipolar device).
 _DESIGN_KEYS = frozenset({"device", "beta", "beta_min", "beta_max", "temp", "temp_min", "temp_max", "tol", "vbe",
-                          "vbe_tc", "beta_tc", "vce_sat"})
+                          "vbe_tc", "beta_tc", "vce_sat", "pmax", "vceo"})
 
 
 def _design_keys(k) -> bool:
@@ -60,7 +60,13 @@ def design_cmd(
 ) -> None:
     """Choose preferred resistor values for a target IC and check the point over the datasheet limits.
 
+    The stability rule comes first: RE (and R2 of a divider) a neighbour in the series of its ideal
+    value (VE about a tenth of VCC) and a divider current of at least ten times the base current at
+    the lowest beta; then the nominal IC closest to the target. Where the rule must give way to
+    reach IC within half a series step, a line on stderr says how.
+
     Worst case: every corner of beta (at 300 K), temperature and each resistor (+-tol %).
+    --pmax and --vceo: a warning where the design exceeds them; written into the --out file.
 
     --beta is the nominal gain at 300 K (default: the middle of the limits).
     """
@@ -108,8 +114,13 @@ def design_cmd(
     kwargs = {name: bias_in.get(name) for name in ("temp", "temp_min", "temp_max", "vbe", "vbe_tc", "beta_tc",
                                                    "vce_sat")}
     kwargs = {k: v for k, v in kwargs.items() if v is not None}
+    pmax, vceo = bias_in.ratings()
     design = design_bias(kind, v_cc, i_c, beta_min=bmin, beta_max=bmax, beta=beta, series=series, vce=v_ce,
-                         tol=bias_in.get("tol", 0.0), **kwargs)
+                         tol=bias_in.get("tol", 0.0), pmax=pmax, vceo=vceo, **kwargs)
+    for w in design.warnings:
+        warn(w)
+    for n in design.notes:
+        (note_later if design.rule == "r2 beyond neighbours" else warn)(n)
     if out is not None:
         from ..fileio import atomic_write_text
 
@@ -140,3 +151,13 @@ def _print_design(d, device: str) -> None:
                 ["quantity", "target", "chosen parts", "worst case"], rows,
                 caption=f"worst case over every corner of {worst}" + (
                     "; a pnp: magnitudes" if device == "pnp" else ""))
+    s = d.settings
+    rows = [["VE / VCC", f"about {s['ve_fraction']:g}", f"{d.ve / n.vcc:.3g} (VE = {format_si(d.ve, 'V')})"]]
+    if d.divider_ratio is not None:
+        rows.append(["I(R2) / IB at lowest beta", f">= {s['divider_factor']:g}",
+                     f"{d.divider_ratio:.3g} (beta {d.beta_low:.4g})"])
+    verdict = {"met": "met", "r2 beyond neighbours": "met, with R2 beyond the neighbours of its ideal value",
+               "re beyond neighbours": "relaxed to reach IC (see the line on stderr)",
+               "relaxed": "not met (see the line on stderr)"}[d.rule]
+    print_table("Stability rule at the nominal point of the chosen parts", ["quantity", "rule", "chosen parts"],
+                rows, caption=f"rule {verdict}; then the nominal IC closest to the target")

@@ -86,7 +86,8 @@ def solve_cmd(bias_in: Inputs, vary: _VaryOpt = None, target: _TargetOpt = None,
     """Solve for the value of one design variable (--vary) that makes one result meet --target.
 
     The variable is searched between physical bounds (resistors 1 ohm to 10 Mohm, capacitors 1 pF
-    to 1 F, bias currents 1 uA to 100 mA); of several values that meet the target, the one nearest
+    to 1 F, bias currents 1 uA to 100 mA), on a grid refined at the edges of the values the stage
+    accepts, where the result changes fast and at its extremes; of several values that meet the target, the one nearest
     the present value is taken (with a note). Also shows the nearest part of --series and the result
     with it.
     """
@@ -121,9 +122,13 @@ def solve_cmd(bias_in: Inputs, vary: _VaryOpt = None, target: _TargetOpt = None,
         span = f"{key.name} from {format_si(lo, vu)} to {format_si(hi, vu)}"
         if exc.reachable is None:
             raise InputError(f"target: {result} has no value for {span}") from None
-        raise InputError(f"target: {result} = {format_si(goal, ru)} is not reachable by varying {span}; "
+        where = ("" if exc.exists is None or (math.isclose(exc.exists[0], lo, rel_tol=1e-9) and
+                                                math.isclose(exc.exists[1], hi, rel_tol=1e-9)) else
+                 f" (it has a value only for {key.name} from {format_si(exc.exists[0], vu)} to "
+                 f"{format_si(exc.exists[1], vu)})")
+        raise InputError(f"target: {result} = {format_si(goal, ru)} is not reachable by varying {span}{where}; "
                          f"{result} ranges from {format_si(exc.reachable[0], ru)} to "
-                         f"{format_si(exc.reachable[1], ru)} there") from None
+                         f"{format_si(exc.reachable[1], ru)} over the {exc.scanned} values scanned") from None
     build(sol.value, final=True)  # the warnings and notes of the solved value (ratings, datasheet values)
     part = nearest(sol.value, series)
     try:
