@@ -33,7 +33,12 @@ Stability and gain invariants, also from Y:
   1954): :math:`U = |y_{21} - y_{12}|^2 / (4 (g_{11} g_{22} - g_{12} g_{21}))`.
 * MSG :math:`= |y_{21}/y_{12}|` (:math:`= |S_{21}/S_{12}|`), and where K > 1
   MAG :math:`= \mathrm{MSG}\,(K - \sqrt{K^2-1}) = \mathrm{MSG} / (K + \sqrt{K^2-1})`
-  (Gonzalez, ch. 3, from memory; the second form does not cancel for large K).
+  (Gonzalez, ch. 3, from memory), computed multiplied out by :math:`|P|` with
+  :math:`N = 2 g_{11} g_{22} - \mathrm{Re}\,P`:
+  :math:`\mathrm{MAG} = |y_{21}|^2 / (N + \sqrt{(N - |P|)(N + |P|)})`.  This form does not
+  cancel for large K and stays continuous at :math:`y_{12} = 0`, where it is the unilateral
+  maximum :math:`|y_{21}|^2 / (4 g_{11} g_{22}) = |S_{21}|^2 / ((1 - |S_{11}|^2)(1 - |S_{22}|^2))`
+  (Gonzalez, sec. 3.2, from memory): the limit of MAG as :math:`S_{12} \to 0`.
 * Edwards and Sinsky's :math:`\mu = (1 - |S_{11}|^2) / (|S_{22} - \Delta S_{11}^*| + |S_{12} S_{21}|)`
   and :math:`\mu'` (the same with ports exchanged; IEEE Trans. MTT 40(12), 1992), with S at
   the reference resistances :math:`z_{01}, z_{02}`.  With the normalised admittances
@@ -69,15 +74,27 @@ A value that does not exist for the network is NaN in the arrays; output layers 
 ``null`` / ``open`` / ``unbounded``.  Exactly (never by a size threshold):
 
 * ``zin`` / ``zout`` where :math:`Y_{in}` / :math:`Y_{out}` is 0 (an open port);
-* ``k`` and ``msg_db`` where :math:`y_{12} y_{21} = 0` (:math:`S_{12} S_{21} = 0`: K and
-  MSG are unbounded); ``msg_db`` also where the MAG/MSG is 0;
+* ``k`` where :math:`y_{12} y_{21} = 0` (:math:`S_{12} S_{21} = 0`: K is unbounded);
+  ``msg_db`` where :math:`y_{12} = 0` and :math:`N \le 0` (the MSG is unbounded; with
+  :math:`N > 0` it holds the MAG, the unilateral maximum, see :attr:`Terminated.msg_is_mag`),
+  and where the MAG/MSG is 0;
 * ``u_db`` where :math:`g_{11} g_{22} - g_{12} g_{21} = 0` (U unbounded, e.g. a FET with
   neither gate resistance nor any other loss), and where U <= 0 (no dB value:
   U = 0 for a reciprocal network, U < 0 where the denominator is negative);
 * ``mu`` / ``mu_prime`` where they are 0/0 (a lossless port of a unilateral network);
 * ``gp_db`` where :math:`\mathrm{Re}\,Y_{in} \le 0`, ``ga_db`` where
-  :math:`\mathrm{Re}\,Y_{out} \le 0`, and any gain that is 0 (no dB value: an open load,
-  :math:`R_s = 0`).
+  :math:`\mathrm{Re}\,Y_{out} \le 0`, and any gain that is 0 (no dB value):
+  ``gt_db`` and ``ga_db`` where :math:`\mathrm{Re}\,Z_s = 0` (an ideal source: its available
+  power :math:`|V_s|^2 / (8 R_s)` is unlimited, so GT = GA = 0;
+  :attr:`Terminated.ideal_source`), ``gt_db`` and ``gp_db`` where :math:`\mathrm{Re}\,Y_L = 0`
+  (an open or purely reactive load takes no power, so GT = GP = 0;
+  :attr:`Terminated.lossless_load`).  These are zeros, not unbounded values.
+
+The stability verdict has a stated tolerance (:data:`STABILITY_TOL`): a point whose mu is
+within it of 1 lies on the boundary of unconditional stability (marginal; for example a
+unilateral device with a lossless output, whose mu is exactly 1 and computes as 1 plus or minus
+a rounding error) and is neither unconditionally stable nor called potentially unstable
+(:attr:`Terminated.stability`).
 """
 
 from __future__ import annotations
@@ -110,8 +127,12 @@ _RESULT_TYPES = {"av": complex, "avs": complex, "ai": complex, "zin": complex, "
 _DB_PER_NEPER = 10.0 / math.log(10.0)
 #: Threads for long terminated analyses (results do not depend on it).
 THREADS = min(4, os.cpu_count() or 1)
+#: Stability verdicts: |mu - 1| no larger than this is on the boundary of unconditional
+#: stability (marginal), neither side of it; larger than rounding (mu is computed to about
+#: 1e-15 relative from Y), smaller than any margin a design would rely on.
+STABILITY_TOL = 1e-9
 
-__all__ = ["Terminated", "terminate", "terminate_configs", "terminate_arrays", "terminate_arrays_y",
+__all__ = ["Terminated", "STABILITY_TOL", "terminate", "terminate_configs", "terminate_arrays", "terminate_arrays_y",
            "stability_arrays", "stability_arrays_y", "to_db"]
 
 
@@ -134,7 +155,9 @@ class Terminated:
         Rollett K, |Delta|, Edwards-Sinsky mu (input) and mu' (output).  K is NaN exactly
         where S12 S21 = 0 (unbounded).
     msg_db : float ndarray
-        MAG where K > 1, else MSG, in dB; NaN exactly where S12 = 0 (unbounded).
+        MAG where K > 1, else MSG, in dB.  At S12 = 0 it is the MAG where the ports have
+        losses of one sign (the unilateral maximum |S21|^2 / ((1 - |S11|^2)(1 - |S22|^2)), the
+        limit of MAG as S12 -> 0), else NaN (the MSG is unbounded); see :attr:`msg_is_mag`.
     u_db : float ndarray
         Mason's unilateral power gain U in dB; NaN exactly where its denominator is zero
         (unbounded), and where U <= 0 (no dB value).
@@ -178,17 +201,91 @@ class Terminated:
     def __len__(self) -> int:
         return self.av.shape[0]
 
+    def _flags(self, sl: slice) -> dict[str, np.ndarray]:
+        """The verdicts of the properties below on the points ``sl``, one rule for all of them."""
+        mu, k, msg = self.mu[sl], self.k[sl], self.msg_db[sl]
+        n = mu.shape[0]
+        zs = np.broadcast_to(self.zs, (len(self),))[sl]
+        zl = np.broadcast_to(self.zl, (len(self),))[sl]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            unconditional = mu > 1.0 + STABILITY_TOL
+            marginal = ~(np.abs(mu - 1.0) > STABILITY_TOL)
+            flags = {
+                "unconditional": unconditional, "marginal": marginal,
+                "stability": np.where(unconditional, "unconditional",
+                                      np.where(marginal, "marginal", "conditional")).reshape(n),
+                "unilateral": np.isnan(k),
+                "msg_is_mag": (k > 1) | (np.isnan(k) & np.isfinite(msg)),
+                "ideal_source": zs.real == 0,
+                "lossless_load": ~np.isfinite(zl) | ((1.0 / zl).real == 0)}
+        return flags
+
     @property
     def unconditional(self) -> np.ndarray:
-        """True where the two-port is unconditionally stable (mu > 1; Edwards and Sinsky 1992).
+        """True where the two-port is unconditionally stable: mu > 1 + :data:`STABILITY_TOL`
+        (Edwards and Sinsky 1992).
 
         Equivalent to K > 1 together with |Delta| < 1.  Where K > 1 but |Delta| >= 1,
         ``msg_db`` still holds the MAG formula (as scikit-rf's ``max_gain`` does), but the
         simultaneous conjugate match it assumes needs a termination outside the Smith chart
-        (|Gamma| > 1), so that gain cannot be reached with passive terminations.
+        (|Gamma| > 1), so that gain cannot be reached with passive terminations.  A point
+        within the tolerance of mu = 1 is :attr:`marginal`, not unconditionally stable.
         """
-        with np.errstate(invalid="ignore"):
-            return self.mu > 1
+        return self._flags(slice(None))["unconditional"]
+
+    @property
+    def marginal(self) -> np.ndarray:
+        """True where the two-port is on the boundary of unconditional stability.
+
+        There |mu - 1| <= :data:`STABILITY_TOL`, or mu is 0/0 (NaN: a lossless port of a
+        unilateral network, |S11| = 1 or |S22| = 1, which is on the boundary too; Edwards
+        and Sinsky 1992, the geometric meaning of mu, from memory).
+        """
+        return self._flags(slice(None))["marginal"]
+
+    @property
+    def stability(self) -> np.ndarray:
+        """The verdict at each point: ``"unconditional"`` (mu > 1 + tol), ``"marginal"``
+        (|mu - 1| <= tol, see :attr:`marginal`) or ``"conditional"`` (mu < 1 - tol: some
+        passive source or load makes the two-port oscillate); tol is :data:`STABILITY_TOL`.
+        """
+        return self._flags(slice(None))["stability"]
+
+    @property
+    def msg_is_mag(self) -> np.ndarray:
+        """True where ``msg_db`` is the MAG (K > 1, or S12 = 0 with the unilateral maximum).
+
+        K is NaN exactly where S12 S21 = 0, and ``msg_db`` is finite there only where it holds
+        the unilateral maximum gain.
+        """
+        return self._flags(slice(None))["msg_is_mag"]
+
+    @property
+    def unilateral(self) -> np.ndarray:
+        """True where S12 = 0 (K is unbounded; a finite ``msg_db`` is the unilateral maximum)."""
+        return self._flags(slice(None))["unilateral"]
+
+    @property
+    def ideal_source(self) -> np.ndarray:
+        """True where Re(Zs) = 0: the source's available power is unlimited, so GT = GA = 0
+        and ``gt_db``, ``ga_db`` are NaN (no dB value), not unbounded."""
+        return self._flags(slice(None))["ideal_source"]
+
+    @property
+    def lossless_load(self) -> np.ndarray:
+        """True where Re(YL) = 0 (an open or purely reactive load): the load takes no power,
+        so GT = GP = 0 and ``gt_db``, ``gp_db`` are NaN (no dB value), not unbounded."""
+        return self._flags(slice(None))["lossless_load"]
+
+    def verdicts(self, i: int) -> dict[str, bool | str]:
+        """The properties above at point ``i`` as Python values, without computing the others.
+
+        Keys ``unconditional``, ``marginal``, ``stability``, ``unilateral``, ``msg_is_mag``,
+        ``ideal_source``, ``lossless_load``.
+        """
+        i = range(len(self))[i]  # a negative index counts from the end
+        return {k: (str(v[0]) if k == "stability" else bool(v[0]))
+                for k, v in self._flags(slice(i, i + 1)).items()}
 
 
 def to_db(power_ratio: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
@@ -393,16 +490,22 @@ def _stability_y(entries, z1: float, z2: float, o: dict, indefinite=None) -> dic
         num *= 2.0
         num -= p.real
         k = np.divide(num, ap, out=o.get("k"))
-        # MSG = |y21 / y12|; MAG = MSG / (K + sqrt(K^2 - 1)) where K > 1
+        # MSG = |y21 / y12|; where K > 1, MAG = MSG / (K + sqrt(K^2 - 1)) multiplied out by |P|:
+        # MAG = |y21|^2 / (N + sqrt((N - |P|)(N + |P|))), N = 2 g11 g22 - Re P, which does not
+        # cancel as y12 -> 0 and is the unilateral maximum |y21|^2 / (4 g11 g22) at y12 = 0
         msg = np.abs(y21, out=f("msg", n))
-        msg /= np.abs(y12, out=f("t", n))
-        over = k > 1
-        if over.any():
-            t = np.multiply(k, k, out=f("t", n))
-            t -= 1.0
+        over = k > 1  # at y12 = 0: K = +inf where N > 0
+        any_over = over.any()
+        if any_over:
+            mag = np.square(msg, out=f("mag", n))
+            t = np.subtract(num, ap, out=f("magt", n))
+            t *= np.add(num, ap, out=f("magt2", n))
             np.sqrt(t, out=t)
-            t += k
-            np.divide(msg, t, out=msg, where=over)
+            t += num
+            mag /= t
+        msg /= np.abs(y12, out=f("t", n))
+        if any_over:
+            np.copyto(msg, mag, where=over)
         # Edwards-Sinsky mu, mu' from the normalised admittances (module docstring)
         e1 = np.multiply(y11, z1, out=c("e1", n))
         e1 += 1.0
@@ -431,7 +534,7 @@ def _stability_y(entries, z1: float, z2: float, o: dict, indefinite=None) -> dic
     if not (np.all(y12) and np.all(y21)):  # exactly: S12 S21 = 0 somewhere
         uni = (y12 == 0) | (y21 == 0)
         k[uni] = np.nan
-        msg[uni] = np.nan
+        msg[uni & ~over] = np.nan  # MSG unbounded; the MAG (the unilateral maximum) is kept
     return {"k": _nan_where_not_finite(k), "delta": _nan_where_not_finite(delta),
             "mu": _nan_where_not_finite(mu), "mu_prime": _nan_where_not_finite(mu_p),
             "msg_db": to_db(msg, o.get("msg_db")), "u_db": to_db(u, o.get("u_db"))}
@@ -490,27 +593,32 @@ def stability_arrays(s: np.ndarray, out: dict | None = None) -> dict[str, np.nda
     delta = s11 * s22 - p12
     a11, a22 = _abs2(s11), _abs2(s22)
     p = np.abs(p12)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        # Rollett K; S12 S21 = 0 (unilateral): K does not exist (NaN)
-        k = np.divide(1.0 - a11 - a22 + _abs2(delta), 2.0 * p, out=o.get("k"))
+    uni = s12 == 0
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        # Rollett K = N / (2 |S12 S21|); S12 S21 = 0 (unilateral): K does not exist (NaN)
+        big_n = 1.0 - a11 - a22 + _abs2(delta)
+        if uni.any():  # N = (1 - |S11|^2)(1 - |S22|^2) there, written without cancelling
+            big_n[uni] = (1.0 - a11[uni]) * (1.0 - a22[uni])
+        k = np.divide(big_n, 2.0 * p, out=o.get("k"))
         # mu, mu' (0/0 at a lossless port: does not exist)
         mu = np.divide(1.0 - a11, np.abs(s22 - delta * s11.conj()) + p, out=o.get("mu"))
         mu_p = np.divide(1.0 - a22, np.abs(s11 - delta * s22.conj()) + p, out=o.get("mu_prime"))
-        # MSG = |S21/S12|; MAG = MSG (K - sqrt(K^2 - 1)) where K > 1
+        # MSG = |S21/S12|; where K > 1, MAG = MSG (K - sqrt(K^2 - 1)) multiplied out by 2 |S12 S21|:
+        # MAG = 2 |S21|^2 / (N + sqrt((N - 2p)(N + 2p))), which does not cancel as S12 -> 0 and
+        # is the unilateral maximum |S21|^2 / ((1 - |S11|^2)(1 - |S22|^2)) at S12 = 0
         kk = s21 / s12
         ratio = np.abs(kk)
-        over = k > 1
+        over = k > 1  # at S12 = 0: K = +inf where N > 0
         msg = ratio.copy()
         if over.any():
-            ko = k[over]
-            msg[over] = ratio[over] * (ko - np.sqrt(ko * ko - 1.0))
+            no, po = big_n[over], 2.0 * p[over]
+            msg[over] = 2.0 * _abs2(s21[over]) / (no + np.sqrt((no - po) * (no + po)))
         # Mason's U from the S ratio kk = s21/s12; S12 = 0: the unilateral limit
         # |s21|^2 / ((1 - |s11|^2)(1 - |s22|^2)).
         u = _abs2(kk - 1.0) / (2.0 * (k * ratio - kk.real))
-    uni = s12 == 0
     if uni.any():
         k[uni] = np.nan
-        msg[uni] = np.nan
+        msg[uni & ~over] = np.nan  # MSG unbounded; the MAG (the unilateral maximum) is kept
         with np.errstate(invalid="ignore", divide="ignore"):
             u[uni] = _abs2(s21[uni]) / ((1.0 - a11[uni]) * (1.0 - a22[uni]))
     k = _nan_where_not_finite(k)

@@ -11,12 +11,7 @@ from dataclasses import dataclass, field
 from typing import Literal
 
 from .exceptions import BiasError, InputError
-from .units import UNITS, Unit
 from .validate import check_number as _finite, meta, p_type_magnitudes
-
-# The henry, for the lead inductances.  It belongs in units.UNITS beside every other unit (one
-# line there); registered here until it is, so the schema can parse "1.2nH".
-UNITS.setdefault("H", Unit(("H",), "HENRY", "H", "an inductance in H"))
 
 __all__ = ["BipolarBias", "DEFAULT_VCE_SAT", "DEFAULT_TEMP"]
 

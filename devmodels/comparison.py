@@ -42,8 +42,11 @@ class Category:
 
 
 def _mag(name: str) -> Callable[[dict, float | None], float]:
+    """|value| of a gain or impedance; a value that does not exist (NaN: an open port, an
+    unbounded gain, shown as ``open`` / ``unbounded``) is infinitely large, not left out."""
     def f(p: dict, bw: float | None) -> float:
-        return abs(complex(p[name]))
+        v = abs(complex(p[name]))
+        return math.inf if math.isnan(v) else v
     return f
 
 

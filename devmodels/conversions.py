@@ -59,8 +59,9 @@ own computation.  Both sides have the same unit, so the test does not depend on 
 scale or the unit of the data.  A pivot that is a single entry (:math:`z_{22}` for
 z -> h) carries no cancellation and fails only where it is zero, or so small (below
 about 1e-308) that its reciprocal overflows.  A failing point raises
-:class:`~devmodels.exceptions.SingularParameterError` naming the pair and the first such
-point; a result beyond the float range (entries or their products above about 1e308) raises
+:class:`~devmodels.exceptions.SingularParameterError` that starts with the missing kind and
+says in plain words what is zero, at the first such point (``z: the Z parameters do not exist
+for this two-port (Y is singular: det Y = 0, at point 3; converting Y to Z)``); a result beyond the float range (entries or their products above about 1e308) raises
 :class:`~devmodels.exceptions.InputError`.  No inf or NaN is ever returned.
 
 **Speed.**  Plain numpy on blocks of :data:`BLOCK` points (a loop over blocks, not over
@@ -349,6 +350,37 @@ def _check_finite(flat: np.ndarray) -> None:
         raise InputError("data: parameters contain NaN or infinity")
 
 
+#: Names of the kinds in messages.
+_NAME = {"y": "Y", "z": "Z", "h": "H", "g": "G", "abcd": "ABCD", "s": "S"}
+#: The chain-parameter entry each immittance kind divides by (z = [[A, det], [1, D]] / C, ...).
+_CHAIN_PIVOT = {"z": "C", "y": "B", "h": "D", "g": "A"}
+#: What vanishes when S cannot be turned into an immittance kind (the determinant of
+#: 1 - diag(sign) S, module docstring).
+_S_PIVOT = {"z": "det(1 - S) = 0", "y": "det(1 + S) = 0", "h": "(1 - S11)(1 + S22) + S12 S21 = 0",
+            "g": "(1 + S11)(1 - S22) + S12 S21 = 0"}
+
+
+def _why_missing(src: str, dst: str) -> str:
+    """In plain words, what is zero when ``dst`` does not exist for data of kind ``src``.
+
+    One case per closed form of :func:`_closed_form` (the quantity each one divides by).
+    """
+    terminated = "the network with both ports ended in the reference resistances has no solution"
+    if dst == "s":  # (M + R) singular, A R2 + B + C R1 R2 + D R1 = 0, or the renormalisation
+        what = "new reference resistances" if src == "s" else "reference resistances"
+        return terminated.replace("reference resistances", what)
+    if src == "s":
+        return "S21 = 0: no forward transmission" if dst == "abcd" else _S_PIVOT[dst]
+    if dst == "abcd":
+        return f"{src}21 = 0: no forward transmission"
+    if src == "abcd":
+        return f"the chain parameter {_CHAIN_PIVOT[dst]} = 0"
+    differ = [a != b for a, b in zip(_VOLTAGE_OUT[src], _VOLTAGE_OUT[dst])]
+    if all(differ):
+        return f"{src.upper()} is singular: det {src.upper()} = 0"
+    return f"{src}11 = 0" if differ[0] else f"{src}22 = 0"
+
+
 def _raise_first_problem(flat, src, dst, start, ok, terms, inv, res) -> None:
     """Raise for the first bad point of a block; return if there is none after all.
 
@@ -365,7 +397,8 @@ def _raise_first_problem(flat, src, dst, start, ok, terms, inv, res) -> None:
         return  # only the sum of the block overflowed
     i = bad[0]
     if scale_fits[i] and not (ok[i] and np.isfinite(inv[i])):
-        raise SingularParameterError(f"the {dst} parameters do not exist for this network "
-                                     f"({src} -> {dst} pivot is singular at point {start + i})")
+        raise SingularParameterError(f"{dst}: the {_NAME[dst]} parameters do not exist for this two-port "
+                                     f"({_why_missing(src, dst)}, at point {start + i}; converting "
+                                     f"{_NAME[src]} to {_NAME[dst]})")
     raise InputError(f"data: {src} -> {dst} overflows the float range at point {start + i} "
                      "(entries or their products beyond about 1e308)")

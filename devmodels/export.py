@@ -39,7 +39,7 @@ from .twoport import TwoPort
 
 __all__ = ["write_touchstone", "write_csv", "write_json", "twoport_dict", "touchstone_text",
            "csv_text", "atomic_write", "TOUCHSTONE_KINDS", "write_by_extension", "touchstone1_scale",
-           "touchstone_chunks", "csv_chunks", "json_chunks", "BLOCK"]
+           "touchstone_chunks", "csv_chunks", "json_chunks", "BLOCK", "Columns"]
 
 #: Kinds Touchstone can hold.
 TOUCHSTONE_KINDS = ("s", "y", "z", "h", "g")
@@ -59,6 +59,45 @@ _UNITS = {
     "y": ("S", "S", "S", "S"), "z": ("ohm", "ohm", "ohm", "ohm"), "h": ("ohm", "1", "1", "S"),
     "g": ("S", "1", "1", "ohm"), "abcd": ("1", "ohm", "S", "1"), "s": ("1", "1", "1", "1"),
 }
+
+
+class Columns:
+    """Real values per frequency written beside the parameters (CSV columns, JSON point keys).
+
+    Parameters
+    ----------
+    keys : sequence of str
+        The JSON key of each column in every point (e.g. ``"nf_db"``).
+    headers : sequence of str
+        The CSV header of each column, with its unit (e.g. ``"nf at rs [dB]"``).
+    values : object
+        ``values[i:j]`` is a float array (j - i, k) of the k columns at points i to j: an
+        ndarray, or an object computing each block when asked (a streamed sweep).  Every value
+        must exist (finite): no file holds NaN or inf.
+    """
+
+    __slots__ = ("keys", "headers", "values")
+
+    def __init__(self, keys, headers, values) -> None:
+        self.keys = tuple(keys)
+        self.headers = tuple(headers)
+        if len(self.keys) != len(self.headers) or not self.keys:
+            raise InputError("columns: expected as many keys as headers, at least one")
+        self.values = values
+
+    def block(self, start: int, stop: int) -> np.ndarray:
+        """The (stop - start, k) float array of the columns at points ``start`` to ``stop``.
+
+        Parameters
+        ----------
+        start, stop : int
+            First and one-past-last point index.
+        """
+        v = np.asarray(self.values[start:stop], dtype=float).reshape(stop - start, len(self.keys))
+        if not np.all(np.isfinite(v)):
+            raise InputError(f"columns: {', '.join(self.keys)} hold values that do not exist (NaN or inf); "
+                             "nothing written")
+        return v
 
 
 def atomic_write(path, text: str, *, option: str = "out") -> Path:
@@ -131,11 +170,15 @@ def _table(freq: np.ndarray | None, data: np.ndarray, polar, order, scale=None) 
     return out
 
 
-def _row_blocks(tp: TwoPort, polar: bool, order, scale, sep: str, block: int) -> Iterator[str]:
+def _row_blocks(tp: TwoPort, polar: bool, order, scale, sep: str, block: int,
+                columns: Columns | None = None) -> Iterator[str]:
     n = len(tp)
     for i in range(0, n, block):
         f = None if tp.freq is None else tp.freq[i:i + block]
-        yield _format_rows(_table(f, tp.data[i:i + block], polar, order, scale), sep)
+        table = _table(f, tp.data[i:i + block], polar, order, scale)
+        if columns is not None:
+            table = np.hstack([table, columns.block(i, min(n, i + block))])
+        yield _format_rows(table, sep)
 
 
 def touchstone1_scale(kind: str, r: float) -> np.ndarray:
@@ -237,13 +280,15 @@ def touchstone_text(tp: TwoPort, version: str = "1.1", polar: bool = False, comm
     return "".join(touchstone_chunks(tp, version, polar, comment))
 
 
-def _csv_head(tp: TwoPort, polar, comment: str = "") -> str:
+def _csv_head(tp: TwoPort, polar, comment: str = "", columns: Columns | None = None) -> str:
     names = ("A", "B", "C", "D") if tp.kind == "abcd" else tuple(f"{tp.kind}{n}" for n in ("11", "12", "21", "22"))
     head = ["freq [Hz]"]
     fmt = number_format(polar)
     for n, u in zip(names, _UNITS[tp.kind]):
         head += {"MA": [f"mag {n} [{u}]", f"ang {n} [deg]"], "DB": [f"db {n} [dB]", f"ang {n} [deg]"],
                  "RI": [f"re {n} [{u}]", f"im {n} [{u}]"]}[fmt]
+    if columns is not None:
+        head += list(columns.headers)
     ref = f"z0 = {tp.z0[0]:g} ohm" if tp.z0[0] == tp.z0[1] else f"z0 = {tp.z0[0]:g} / {tp.z0[1]:g} ohm"
     note = f"# devmodels: {tp.config.upper() + ' ' if tp.config else ''}{tp.kind.upper()} parameters"
     note += f", {ref}\n" if tp.kind == "s" else "\n"
@@ -251,7 +296,8 @@ def _csv_head(tp: TwoPort, polar, comment: str = "") -> str:
     return note + extra + ",".join(head) + "\n"
 
 
-def csv_chunks(tp: TwoPort, polar: bool = False, block: int = BLOCK, comment: str = "") -> Iterator[str]:
+def csv_chunks(tp: TwoPort, polar: bool = False, block: int = BLOCK, comment: str = "",
+               columns: Columns | None = None) -> Iterator[str]:
     """The CSV text of ``tp`` as blocks of at most ``block`` lines (see :func:`csv_text`).
 
     Parameters
@@ -265,20 +311,25 @@ def csv_chunks(tp: TwoPort, polar: bool = False, block: int = BLOCK, comment: st
     comment : str
         Lines written as ``# ...`` comments under the first header line (what the file holds:
         device, bias point, network, configuration).
+    columns : Columns, optional
+        More columns after the parameters (e.g. the noise figure of a sweep).
     """
-    head = _csv_head(tp, polar, comment)
+    head = _csv_head(tp, polar, comment, columns)
 
     def gen() -> Iterator[str]:
         yield head
         if tp.freq is None:  # one frequency-independent point: an empty frequency field
-            yield "," + _format_rows(_table(None, tp.data, polar, _ORDER_ROWS), ",")
+            table = _table(None, tp.data, polar, _ORDER_ROWS)
+            if columns is not None:
+                table = np.hstack([table, columns.block(0, len(tp))])
+            yield "," + _format_rows(table, ",")
             return
-        yield from _row_blocks(tp, polar, _ORDER_ROWS, None, ",", block)
+        yield from _row_blocks(tp, polar, _ORDER_ROWS, None, ",", block, columns)
 
     return gen()
 
 
-def csv_text(tp: TwoPort, polar: bool = False, comment: str = "") -> str:
+def csv_text(tp: TwoPort, polar: bool = False, comment: str = "", columns: Columns | None = None) -> str:
     """CSV of ``tp``: frequency in Hz, then two columns per element with units in the header.
 
     Real/imaginary columns (``re y11 [S]``, ``im y11 [S]``) or, with ``polar``,
@@ -294,15 +345,18 @@ def csv_text(tp: TwoPort, polar: bool = False, comment: str = "") -> str:
         The number format (:func:`number_format`).
     comment : str
         Lines written as ``# ...`` comments under the first header line.
+    columns : Columns, optional
+        More columns after the parameters.
     """
-    return "".join(csv_chunks(tp, polar, comment=comment))
+    return "".join(csv_chunks(tp, polar, comment=comment, columns=columns))
 
 
-def _points(tp: TwoPort, start: int, stop: int) -> list[dict]:
-    """The JSON ``points`` of ``tp`` from index ``start`` to ``stop`` (exclusive)."""
+def _points(tp: TwoPort, start: int, stop: int, columns: Columns | None = None) -> list[dict]:
+    """The JSON ``points`` of ``tp`` from index ``start`` to ``stop`` (exclusive), with ``columns``' keys."""
     freqs = [None] * (stop - start) if tp.freq is None else tp.freq[start:stop].tolist()
     d = tp.data[start:stop]
     re_, im = d.real.tolist(), d.imag.tolist()
+    extra = None if columns is None else columns.block(start, stop).tolist()
     points = []
     for i, f in enumerate(freqs):
         pt = {"freq": f}
@@ -310,6 +364,8 @@ def _points(tp: TwoPort, start: int, stop: int) -> list[dict]:
             for b in (0, 1):
                 r, m = re_[i][a][b], im[i][a][b]
                 pt[f"{a + 1}{b + 1}"] = [r, m] if math.isfinite(r) and math.isfinite(m) else None
+        if extra is not None:
+            pt.update(zip(columns.keys, extra[i]))
         points.append(pt)
     return points
 
@@ -319,17 +375,25 @@ def _json_head(tp: TwoPort) -> dict:
     return {"config": tp.config, "kind": tp.kind, "z0": z0}
 
 
-def twoport_dict(tp: TwoPort) -> dict:
+def twoport_dict(tp: TwoPort, columns: Columns | None = None) -> dict:
     """The params JSON object of ``tp``: ``config``, ``kind``, ``z0``, ``points``.
 
     Complex values are ``[re, im]``; a value that does not exist is ``None``.
+
+    Parameters
+    ----------
+    tp : TwoPort
+        The parameters (frequencies in Hz).
+    columns : Columns, optional
+        More keys in every point, after the parameters (e.g. ``nf_db``).
     """
     obj = _json_head(tp)
-    obj["points"] = _points(tp, 0, len(tp))
+    obj["points"] = _points(tp, 0, len(tp), columns)
     return obj
 
 
-def json_chunks(tp: TwoPort, extra: dict | None = None, block: int = JSON_BLOCK) -> Iterator[str]:
+def json_chunks(tp: TwoPort, extra: dict | None = None, block: int = JSON_BLOCK,
+                columns: Columns | None = None) -> Iterator[str]:
     """The params JSON of ``tp`` (plus the keys of ``extra``) as text blocks, one line in all.
 
     Joined, the blocks equal ``json.dumps(obj, allow_nan=False) + "\\n"`` of
@@ -344,10 +408,12 @@ def json_chunks(tp: TwoPort, extra: dict | None = None, block: int = JSON_BLOCK)
         JSON-ready keys added after ``points`` (a key of the params object replaces it).
     block : int
         Points per block.
+    columns : Columns, optional
+        More keys in every point (:func:`twoport_dict`).
     """
     head = _json_head(tp)
     if extra and any(k in head or k == "points" for k in extra):  # keys replaced: no streaming
-        obj = twoport_dict(tp)
+        obj = twoport_dict(tp, columns)
         obj.update(extra)
         return iter((json.dumps(obj, allow_nan=False) + "\n",))
     tail = (", " + json.dumps(extra, allow_nan=False)[1:-1] if extra else "") + "}\n"
@@ -357,14 +423,15 @@ def json_chunks(tp: TwoPort, extra: dict | None = None, block: int = JSON_BLOCK)
         yield first
         n = len(tp)
         for i in range(0, n, block):
-            text = json.dumps(_points(tp, i, min(n, i + block)), allow_nan=False)[1:-1]
+            text = json.dumps(_points(tp, i, min(n, i + block), columns), allow_nan=False)[1:-1]
             yield text if i == 0 else ", " + text
         yield "]" + tail
 
     return gen()
 
 
-def write_json(tp: TwoPort, path, extra: dict | None = None, *, option: str = "out") -> Path:
+def write_json(tp: TwoPort, path, extra: dict | None = None, *, option: str = "out",
+               columns: Columns | None = None) -> Path:
     """Write the params JSON of ``tp`` (plus the keys of ``extra``, already JSON-ready).
 
     Parameters
@@ -377,13 +444,15 @@ def write_json(tp: TwoPort, path, extra: dict | None = None, *, option: str = "o
         JSON-ready keys added to the object.
     option : str
         Option name that starts an error message.
+    columns : Columns, optional
+        More keys in every point (:func:`twoport_dict`).
 
     Raises
     ------
     OutputError
         The file cannot be written (message starting with ``option``).
     """
-    return atomic_write_chunks(path, json_chunks(tp, extra), option=option)
+    return atomic_write_chunks(path, json_chunks(tp, extra, columns=columns), option=option)
 
 
 def write_touchstone(tp: TwoPort, path, version: str = "1.1", polar: bool = False, comment: str = "",
@@ -415,7 +484,8 @@ def write_touchstone(tp: TwoPort, path, version: str = "1.1", polar: bool = Fals
     return atomic_write_chunks(path, touchstone_chunks(tp, version, polar, comment), option=option)
 
 
-def write_csv(tp: TwoPort, path, polar: bool = False, *, option: str = "out", comment: str = "") -> Path:
+def write_csv(tp: TwoPort, path, polar: bool = False, *, option: str = "out", comment: str = "",
+              columns: Columns | None = None) -> Path:
     """Write ``tp`` as CSV (see :func:`csv_text`), block by block.
 
     Parameters
@@ -430,18 +500,20 @@ def write_csv(tp: TwoPort, path, polar: bool = False, *, option: str = "out", co
         Option name that starts an error message.
     comment : str
         Lines written as ``# ...`` comments under the first header line.
+    columns : Columns, optional
+        More columns after the parameters.
 
     Raises
     ------
     OutputError
         The file cannot be written (message starting with ``option``).
     """
-    return atomic_write_chunks(path, csv_chunks(tp, polar, comment=comment), option=option)
+    return atomic_write_chunks(path, csv_chunks(tp, polar, comment=comment, columns=columns), option=option)
 
 
 def write_by_extension(tp: TwoPort, path, polar: bool = False, version: str | None = None,
                        comment: str = "", extra_json: dict | None = None, *,
-                       option: str = "out") -> tuple[Path, str]:
+                       option: str = "out", columns: Columns | None = None) -> tuple[Path, str]:
     """Write ``tp`` in the format its file name says; returns (path, format description).
 
     ``.s2p`` (or ``.y2p``, ``.z2p``, ``.h2p``, ``.g2p``, whose letter must match the kind):
@@ -464,6 +536,8 @@ def write_by_extension(tp: TwoPort, path, polar: bool = False, version: str | No
         More top-level keys for JSON.
     option : str
         Option name that starts an error message.
+    columns : Columns, optional
+        More columns (CSV) or point keys (JSON); Touchstone cannot hold them (refused).
 
     Raises
     ------
@@ -477,10 +551,13 @@ def write_by_extension(tp: TwoPort, path, polar: bool = False, version: str | No
     p = Path(path)
     ext = p.suffix.lower()
     if ext == ".csv":
-        return write_csv(tp, p, polar, option=option), "CSV"
+        return write_csv(tp, p, polar, option=option, columns=columns), "CSV"
     if ext == ".json":
-        return write_json(tp, p, extra_json, option=option), "JSON"
+        return write_json(tp, p, extra_json, option=option, columns=columns), "JSON"
     if ext == ".ts" or (len(ext) == 4 and ext[1] in "syzhg" and ext[2:] == "2p"):
+        if columns is not None:
+            raise InputError(f"{option}: Touchstone has no place for {', '.join(columns.keys)}; "
+                             "write .csv or .json")
         if ext != ".ts" and ext[1] != "s" and ext[1] != tp.kind:
             raise InputError(f"{option}: the extension {ext} says {ext[1].upper()} parameters but the data "
                              f"are {tp.kind.upper()}; use --kind {ext[1]} or a .s2p name")

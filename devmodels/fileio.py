@@ -144,7 +144,7 @@ def _inspect(p: Path, option: str) -> int | None:
         raise _fail(option, p, _reason(exc)) from None
     if st is not None:
         if stat.S_ISDIR(st.st_mode):
-            raise _fail(option, p, "it is a directory")
+            raise _fail(option, p, "it is a directory; give the name of a file in it")
         if not (stat.S_ISREG(st.st_mode) or stat.S_ISLNK(st.st_mode)):
             raise _fail(option, p, "it is not a regular file (a device, a pipe or a socket), "
                                    "and is never replaced")

@@ -85,7 +85,7 @@ from .twoport import TwoPort
 __all__ = ["T0", "FORMS", "NoisyTwoPort", "NoiseResult", "stage_noise", "correlation_transform",
            "transform_matrix", "cascade_noise", "connect_noise", "passive_noise", "noise_parameters",
            "noise_factor", "indefinite_noise", "config_noise", "reconfigure_noise", "ce_noise_design",
-           "ChainNoise", "chain_noise", "ce_low_noise", "plot_nf_vs_ic"]
+           "ChainNoise", "chain_noise", "ce_low_noise", "plot_nf_vs_ic", "noise_circle"]
 
 #: Standard source temperature of the noise factor, K (IEEE; Friis 1944).
 T0 = 290.0
@@ -683,6 +683,64 @@ def noise_parameters(ntp: NoisyTwoPort, zs=50.0, z0=50.0, *, ys=None) -> NoiseRe
     rho = np.full(cu.shape, _CNAN)
     np.divide(cui, en * i_n, out=rho, where=both)
     return NoiseResult(ntp.freq, _factor(ca, y_s), fmin, cu / (4 * kt0), yopt, y_s, en, i_n, rho, zref)
+
+
+# --- noise circles -------------------------------------------------------------------------
+
+def noise_circle(fmin, rn, gamma_opt, f, z0=50.0) -> tuple[np.ndarray, np.ndarray]:
+    r"""Centre and radius of the circle of constant noise factor ``f`` in the source's reflection plane.
+
+    With the source reflection coefficient :math:`\Gamma_s` at ``z0``,
+    :math:`F = F_{min} + (R_n/G_s)|Y_s - Y_{opt}|^2` becomes
+    :math:`|\Gamma_s - \Gamma_{opt}|^2 / (1 - |\Gamma_s|^2) = N` with
+
+    .. math::
+        N = \frac{F - F_{min}}{4 R_n / Z_0} |1 + \Gamma_{opt}|^2,\qquad
+        C_F = \frac{\Gamma_{opt}}{1 + N},\qquad
+        R_F = \frac{\sqrt{N (N + 1 - |\Gamma_{opt}|^2)}}{1 + N}
+
+    (Gonzalez, *Microwave Transistor Amplifiers*, noise chapter, from memory; Pozar,
+    *Microwave Engineering*, 4th ed., noise-figure circles).  Broadcast over the inputs
+    (e.g. F frequencies against L levels with ``f[:, None]``).
+
+    Parameters
+    ----------
+    fmin : array_like
+        Minimum noise factor (linear, >= 1).
+    rn : array_like
+        Equivalent noise resistance in ohm (> 0).
+    gamma_opt : array_like, complex
+        Optimum source reflection coefficient at ``z0`` (|gamma_opt| < 1).
+    f : array_like
+        Noise factor of the circle (linear; ``10 ** (nf_db / 10)``).
+    z0 : float
+        Reference resistance of ``gamma_opt`` and of the circle, ohm.
+
+    Returns
+    -------
+    centre : ndarray, complex
+        Centre of the circle in the reflection plane (dimensionless).
+    radius : ndarray of float
+        Its radius (dimensionless; 0 at ``f = fmin``).  Centre and radius are NaN where the
+        circle does not exist: ``f < fmin`` (below the least noise reachable), or no
+        ``gamma_opt`` (NaN, where Rn = 0), or ``rn <= 0``.
+    """
+    try:
+        zref = float(z0)
+    except (TypeError, ValueError):
+        raise InputError(f"z0: expected a reference resistance in ohm, got {z0!r}") from None
+    if not (math.isfinite(zref) and zref > 0):
+        raise InputError(f"z0: expected a reference resistance > 0 ohm, got {z0!r}")
+    fmin_, rn_, f_ = (np.asarray(v, dtype=float) for v in (fmin, rn, f))
+    g = np.asarray(gamma_opt, dtype=complex)
+    fmin_, rn_, g, f_ = np.broadcast_arrays(fmin_, rn_, g, f_)
+    ok = (np.isfinite(g) & np.isfinite(fmin_) & np.isfinite(f_) & np.isfinite(rn_) & (rn_ > 0)
+          & (f_ >= fmin_))
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        n = (f_ - fmin_) * zref / (4 * rn_) * np.abs(1 + g) ** 2
+        centre = np.where(ok, g / (1 + n), _CNAN)
+        radius = np.where(ok, np.sqrt(np.maximum(n * (n + 1 - np.abs(g) ** 2), 0.0)) / (1 + n), np.nan)
+    return centre, radius
 
 
 # --- design for low noise: a bipolar common-emitter stage ------------------------------------

@@ -29,7 +29,7 @@ from .noise import T0, NoiseResult, NoisyTwoPort
 from .twoport import TwoPort
 
 __all__ = ["correlation_from_parameters", "noisy_from_touchstone", "touchstone_noise_text",
-           "write_touchstone_noise"]
+           "write_touchstone_noise", "noise_figures_at"]
 
 
 def correlation_from_parameters(fmin, rn, yopt) -> np.ndarray:
@@ -112,6 +112,48 @@ def noisy_from_touchstone(data) -> NoisyTwoPort:
     yopt = (1 - g) / (z0 * (1 + g))
     ca = correlation_from_parameters(10 ** (np.asarray(nz.nfmin_db) / 10), nz.rn, yopt)
     return NoisyTwoPort(fn, abcd, ca, "abcd")
+
+
+def noise_figures_at(data, freq, zs) -> tuple[np.ndarray, np.ndarray]:
+    """Noise figure at the source ``zs`` and NFmin (dB) of a Touchstone file at the frequencies ``freq``.
+
+    Noise parameters are not interpolated: a frequency that is not one of the file's noise
+    frequencies (to 1e-9 relative) gets NaN.  The noise factor at the source is
+    :math:`F = F_{min} + (R_n/G_s)|Y_s - Y_{opt}|^2` (Rothe and Dahlke, Proc. IRE 44, 1956),
+    evaluated through :func:`noisy_from_touchstone` and
+    :func:`devmodels.noise.noise_parameters` (the source at T0 = 290 K).
+
+    Parameters
+    ----------
+    data : devmodels.touchstone.TouchstoneData
+        A file with noise data.
+    freq : array_like (F,)
+        Frequencies in Hz (e.g. the points of a terminated analysis).
+    zs : complex
+        Source impedance in ohm (real part > 0).
+
+    Returns
+    -------
+    nf_db, nfmin_db : ndarray (F,)
+        dB; NaN where ``freq`` is not a noise frequency of the file.
+    """
+    from .noise import noise_parameters
+
+    res = noise_parameters(noisy_from_touchstone(data), zs=zs)
+    f = np.atleast_1d(np.asarray(freq, dtype=float))
+    nf = np.full(f.size, np.nan)
+    nfmin = np.full(f.size, np.nan)
+    if f.size == 0:
+        return nf, nfmin
+    fn = res.freq
+    # the nearest noise frequency to each point, and whether it is the same frequency
+    k = np.clip(np.searchsorted(fn, f), 0, fn.size - 1)
+    km = np.clip(k - 1, 0, fn.size - 1)
+    k = np.where(np.abs(fn[km] - f) < np.abs(fn[k] - f), km, k)
+    hit = np.abs(fn[k] - f) <= 1e-9 * np.abs(f)
+    nf[hit] = res.nf_db[k[hit]]
+    nfmin[hit] = res.nfmin_db[k[hit]]
+    return nf, nfmin
 
 
 def _noise_rows(result: NoiseResult, r: float, version: str) -> list[str]:

@@ -14,7 +14,7 @@ import numpy as np
 
 from .exceptions import InputError
 
-__all__ = ["plot_report", "save_figure", "PLOT_SUFFIXES"]
+__all__ = ["plot_report", "save_figure", "PLOT_SUFFIXES", "plot_noise_circles"]
 
 PLOT_SUFFIXES = (".png", ".svg")
 _COLORS = {"ce": "tab:blue", "cb": "tab:orange", "cc": "tab:green",
@@ -151,8 +151,22 @@ def _h21_axes(ax, figs) -> None:
     ax.legend(fontsize=7)
 
 
+def _noise_axes(ax, noise: dict) -> None:
+    """Noise figure at the source (solid) and NFmin (dashed) against frequency, per configuration."""
+    for name, res in noise.items():
+        col = _COLORS.get(name)
+        mk = dict(marker="o", ms=3) if res.freq.size <= 30 else {}
+        ax.semilogx(res.freq, res.nf_db, color=col, label=f"{name.upper()} NF at Rs", **mk)
+        ax.semilogx(res.freq, res.nfmin_db, color=col, ls="--", lw=0.9, label=f"{name.upper()} NFmin")
+    ax.set_xlabel("frequency (Hz)")
+    ax.set_ylabel("noise figure (dB)")
+    ax.set_title("Noise figure (source at T0 = 290 K)")
+    ax.grid(True, which="both", alpha=0.3)
+    ax.legend(fontsize=7)
+
+
 def plot_report(path, gains: dict | None = None, s_ports: dict | None = None, figures=None,
-                title: str = "", mark_freq: float | None = None) -> Path:
+                title: str = "", mark_freq: float | None = None, noise: dict | None = None) -> Path:
     """Draw what is given into one figure and save it as PNG or SVG.
 
     Parameters
@@ -169,6 +183,9 @@ def plot_report(path, gains: dict | None = None, s_ports: dict | None = None, fi
         Figure title.
     mark_freq : float, optional
         A frequency to mark on the gain plot (Hz), e.g. the frequency of a single-point analysis.
+    noise : dict of str -> NoiseResult, optional
+        Noise over frequency by configuration: a panel of the noise figure at the source and
+        NFmin (dB).
 
     Returns
     -------
@@ -196,6 +213,8 @@ def plot_report(path, gains: dict | None = None, s_ports: dict | None = None, fi
         panels.append("smith")
     if figures is not None:
         panels.append("h21")
+    if noise and any(r.freq.size > 1 for r in noise.values()):
+        panels.append("noise")
     if not panels:
         raise InputError("plot: one frequency point is not worth a plot; give several --freq values, "
                          "or draw the whole band with 'devmodels sweep ... --plot'")
@@ -211,11 +230,82 @@ def plot_report(path, gains: dict | None = None, s_ports: dict | None = None, fi
             _gain_axes(ax_mag, ax, gains, figures, mark_freq)
         elif what == "smith":
             _smith_axes(ax, s_ports)
+        elif what == "noise":
+            _noise_axes(ax, noise)
         else:
             _h21_axes(ax, figures)
     if title:
         fig.suptitle(title, fontsize=11)
     try:
+        save_figure(fig, p, option="plot")
+    finally:
+        plt.close(fig)
+    return p
+
+
+def plot_noise_circles(path, freq, gamma_opt, circles: dict, gamma_s=None, *, z0: float = 50.0,
+                       title: str = "") -> Path:
+    """Draw circles of constant noise figure on a Smith chart (scikit-rf's grid) and save it.
+
+    Nothing is computed here: the centres and radii come from
+    :func:`devmodels.noise.noise_circle`.  One colour per frequency, one line style per level;
+    the optimum source (Gamma_opt) is a dot and the source used (``gamma_s``) a cross.
+
+    Parameters
+    ----------
+    path : str or Path
+        Output file, ``.png`` or ``.svg``.
+    freq : array_like (F,)
+        Frequencies in Hz.
+    gamma_opt : array_like, complex (F,)
+        Optimum source reflection coefficient at each frequency (NaN: not drawn).
+    circles : dict of float -> (centre, radius)
+        Per noise-figure level in dB: centres (F,) complex and radii (F,) in the reflection
+        plane (NaN where the level is below NFmin: not drawn).
+    gamma_s : complex, optional
+        The source's reflection coefficient at ``z0``.
+    z0 : float
+        Reference resistance of the chart, ohm.
+    title : str
+        Figure title.
+
+    Returns
+    -------
+    Path
+        The file written.
+    """
+    p = _check_path(path)
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    from skrf.plotting import smith
+
+    from .units import format_si
+
+    f = np.atleast_1d(np.asarray(freq, dtype=float))
+    g = np.atleast_1d(np.asarray(gamma_opt, dtype=complex))
+    styles = ["-", "--", "-.", ":"]
+    theta = np.linspace(0.0, 2 * np.pi, 361)
+    colors = plt.rcParams["axes.prop_cycle"].by_key()["color"]
+    fig, ax = plt.subplots(figsize=(8.8, 6.4), layout="constrained")
+    try:
+        smith(ax=ax, chart_type="z", draw_labels=True)
+        for k in range(f.size):
+            col = colors[k % len(colors)]
+            fk = format_si(float(f[k]), "Hz")
+            if np.isfinite(g[k]):
+                ax.plot([g[k].real], [g[k].imag], "o", color=col, ms=4, label=f"Γopt at {fk}")
+            for j, (level, (centre, radius)) in enumerate(circles.items()):
+                c, r = complex(np.atleast_1d(centre)[k]), float(np.atleast_1d(radius)[k])
+                if not (np.isfinite(c) and np.isfinite(r)):
+                    continue
+                ax.plot(c.real + r * np.cos(theta), c.imag + r * np.sin(theta), color=col,
+                        ls=styles[j % len(styles)], lw=1.0, label=f"NF = {level:g} dB at {fk}")
+        if gamma_s is not None and np.isfinite(gamma_s):
+            ax.plot([complex(gamma_s).real], [complex(gamma_s).imag], "x", color="black", ms=7, label="source")
+        ax.set_title(title or f"Noise figure circles, z0 = {z0:g} Ω", fontsize=9)
+        fig.legend(fontsize=7, loc="outside right upper")
         save_figure(fig, p, option="plot")
     finally:
         plt.close(fig)

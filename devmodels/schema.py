@@ -356,8 +356,19 @@ def nearest(word: str, names) -> str | None:
     names : iterable of str
         The valid names.
     """
-    m = difflib.get_close_matches(word, list(names), n=1, cutoff=0.6)
-    return m[0] if m else None
+    names = list(names)
+    m = difflib.get_close_matches(word, names, n=len(names), cutoff=0.6)
+    if not m:
+        return None
+    # equally close names (npx: npn and pnp) are told apart by the longest common start (a slip
+    # is rarely in the first letter), then by the order given; not by the alphabet
+    best = difflib.SequenceMatcher(None, word, m[0]).ratio()
+    tied = [n for n in m if difflib.SequenceMatcher(None, word, n).ratio() == best]
+
+    def common_start(n: str) -> int:
+        return next((i for i, (a, b) in enumerate(zip(word, n)) if a != b), min(len(word), len(n)))
+
+    return max(tied, key=lambda n: (common_start(n), -names.index(n)))
 
 
 def merge(options: Mapping[str, Any], flat: Mapping[str, Any], tables: Mapping[str, Mapping[str, Any]],

@@ -57,6 +57,7 @@ UNITS: dict[str, Unit] = {
     "V": Unit(("V", "volt", "volts"), "VOLT", "V", "a voltage in V"),
     "Hz": Unit(("Hz",), "HZ", "Hz", "a frequency in Hz"),
     "F": Unit(("F",), "FARAD", "F", "a capacitance in F"),
+    "H": Unit(("H",), "HENRY", "H", "an inductance in H"),
     "Ohm": Unit(("Ohm", "ohm", "Ohms", "ohms", "\u03a9", "\u2126", "R"), "OHM", "\u03a9", "a resistance in ohm"),
     "S": Unit(("S", "mho"), "SIEMENS", "S", "a conductance in S"),
     "W": Unit(("W",), "WATT", "W", "a power in W"),
@@ -205,7 +206,7 @@ def parse_quantity(text, unit: str, name: str) -> float:
 
 
 def _examples(unit: str) -> str:
-    return {"A": "1mA, 150uA", "V": "5V, 0.7", "Hz": "10MHz, 1e6", "F": "2pF, 0.5p", "Ohm": "50, 2.2k, 4.7kohm",
+    return {"A": "1mA, 150uA", "V": "5V, 0.7", "Hz": "10MHz, 1e6", "F": "2pF, 0.5p", "H": "1.2nH, 0.5n", "Ohm": "50, 2.2k, 4.7kohm",
             "W": "250mW", "%": "5, 5%", "V/K": "-2mV/K", "%/K": "0.5%/K", "K": "300, 300K, 27C"}.get(
         unit, "100, 2.5, 1e-3, 25u")
 
@@ -475,6 +476,8 @@ def parse_count(text, name: str, maximum: int, minimum: int = 1) -> int:
 def format_si(value: float | None, unit: str = "", digits: int = 4) -> str:
     """Show ``value`` with an SI prefix: ``format_si(2635.2, 'Ω')`` -> ``'2.635 kΩ'``.
 
+    Kelvin (``unit='K'``) is shown without a prefix (``9130 K``), as temperatures are read.
+
     Parameters
     ----------
     value : float or None
@@ -493,6 +496,11 @@ def format_si(value: float | None, unit: str = "", digits: int = 4) -> str:
         return f"0 {unit}".rstrip()
     if not unit:  # dimensionless: plain numbers read better than prefixes
         return f"{value:.{digits}g}"
+    if unit == "K":  # kelvin reads without prefixes: 9130 K, not 9.13 kK
+        txt = f"{value:.{digits}g}"
+        if "e" in txt and 1e-4 <= abs(value) < 1e12:
+            txt = f"{float(txt):.15g}"
+        return f"{txt} K"
     a = abs(value)
     if 1e-18 <= a < 1e18:
         exp3 = int(math.floor(math.log10(a) / 3))
@@ -506,8 +514,16 @@ def format_si(value: float | None, unit: str = "", digits: int = 4) -> str:
     return f"{value:.{digits}g} {unit}".rstrip()
 
 
+#: A part of a complex value below this fraction of its magnitude is shown as 0 (display only).
+DISPLAY_RESIDUE = 1e-12
+
+
 def format_complex(z: complex, unit: str = "", digits: int = 4, polar: bool = False) -> str:
     """Show a complex value as ``re ± j im unit`` or, with ``polar``, ``|z| ∠ deg``.
+
+    A part smaller than :data:`DISPLAY_RESIDUE` times the magnitude is shown as 0: it is
+    rounding residue of the arithmetic (``0.99 + j5.4e-19``), far below the digits shown of
+    the other part.  For display only; results keep their full values.
 
     Parameters
     ----------
@@ -527,6 +543,11 @@ def format_complex(z: complex, unit: str = "", digits: int = 4, polar: bool = Fa
             txt = txt[1:]
         return f"{format_si(abs(z), unit, digits)} ∠ {txt}°"
     re_, im = z.real + 0.0, z.imag + 0.0
+    size = abs(z)
+    if abs(im) < DISPLAY_RESIDUE * size:
+        im = 0.0
+    if abs(re_) < DISPLAY_RESIDUE * size:
+        re_ = 0.0
     if im == 0:
         return format_si(re_, unit, digits)
     sign = "-" if im < 0 else "+"

@@ -221,10 +221,13 @@ def test_open_load_and_values_that_do_not_exist():
     abcd = tp.to("abcd").data
     np.testing.assert_allclose(res.av, 1 / abcd[:, 0, 0], rtol=1e-12)
     assert np.all(res.ai == 0) and np.all(np.isnan(res.gt_db))
-    # S12 = 0 (unilateral given h with hre = 0): MSG does not exist.
+    # S12 = 0 (unilateral given h with hre = 0): K and the MSG are unbounded, and the MAG is
+    # the unilateral maximum |y21|^2 / (4 g11 g22) with y11 = 1/h11, y21 = h21/h11,
+    # y22 = h22 (h12 = 0; h-to-y table and Gonzalez sec. 3.2, from memory).
     uni = dm.TwoPort(None, [[1e3, 0.0], [100.0, 1e-5]], "h", 50.0)
     r2 = terminate(uni, 50.0, 1e3)
-    assert np.isnan(r2.msg_db[0]) and np.isnan(r2.k[0])
+    assert np.isnan(r2.k[0]) and r2.unilateral[0] and r2.msg_is_mag[0]
+    assert r2.msg_db[0] == pytest.approx(10 * math.log10(0.1 ** 2 / (4 * 1e-3 * 1e-5)), abs=1e-9)
 
 
 def test_bad_terminations_raise():
@@ -335,3 +338,118 @@ def test_y_forms_of_the_invariants_match_the_s_definitions(z0):
     assert ok.sum() > 100 and (~ok).sum() >= 5  # both signs of U occur
     np.testing.assert_allclose(st["u_db"][ok], 10 * np.log10(u[ok]), atol=1e-7)
     assert np.all(np.isnan(st["u_db"][~ok]))  # U <= 0 has no dB value
+
+
+# --- values at the edges: an ideal source, a unilateral network, the stability boundary ---------
+def test_ideal_source_gives_zero_gt_and_ga_not_unbounded(stages):
+    # With Re(Zs) = 0 the available power of the source |Vs|^2 / (8 Rs) is unlimited while the
+    # load power stays finite (avs finite), so GT = P_L / P_avs = 0 and GA = P_avo / P_avs = 0
+    # (definitions: Gonzalez, sec. 2.6, from memory): no dB value (NaN), flagged ideal_source.
+    # GP = P_L / P_in does not involve the source and keeps its value.
+    tp = stages["ce"]
+    ideal = terminate(tp, 0.0, 1e3)
+    assert np.all(np.isnan(ideal.gt_db)) and np.all(np.isnan(ideal.ga_db))
+    assert np.all(ideal.ideal_source) and not np.any(ideal.lossless_load)
+    np.testing.assert_allclose(ideal.gp_db, terminate(tp, 50.0, 1e3).gp_db, atol=1e-9)
+    # the limit Rs -> 0 is 0, not infinity: GT = 4 Rs Re(YL) |avs|^2 falls 10 dB per decade of Rs
+    small = [terminate(tp, rs, 1e3) for rs in (1e-6, 1e-9)]
+    np.testing.assert_allclose(small[0].gt_db - small[1].gt_db, 30.0, atol=1e-3)
+    np.testing.assert_allclose(small[0].ga_db - small[1].ga_db, 30.0, atol=1e-3)
+    # a purely reactive source has no resistance either
+    assert np.all(terminate(tp, 30j, 1e3).ideal_source)
+
+
+def test_load_without_resistance_gives_zero_gt_and_gp():
+    # Re(YL) = 0 (open, or purely reactive): P_L = |V2|^2 Re(YL) / 2 = 0, so GT = GP = 0
+    # (definitions, Gonzalez sec. 2.6, from memory); GA does not involve the load.
+    tp = dm.Stage(hybrid_pi(), "ce").two_port(np.array([1e3, 1e6]), "y")
+    for zl in (math.inf, 300j):
+        res = terminate(tp, 50.0, zl)
+        assert np.all(res.lossless_load) and not np.any(res.ideal_source)
+        assert np.all(np.isnan(res.gt_db)) and np.all(np.isnan(res.gp_db))
+        np.testing.assert_allclose(res.ga_db, terminate(tp, 50.0, 1e3).ga_db, atol=1e-9)
+
+
+def _unilateral_y(eps):
+    # A lossy unilateral two-port (y12 = 0) with a reverse transfer y12 = eps added.
+    return np.array([[[0.4e-3 + 0.2e-3j, eps], [40e-3 - 5e-3j, 0.1e-3 + 0.05e-3j]]])
+
+
+def test_mag_is_continuous_at_s12_zero():
+    # For S12 -> 0 with |S11|, |S22| < 1 the MAG tends to the unilateral maximum
+    # |S21|^2 / ((1 - |S11|^2)(1 - |S22|^2)) (Gonzalez, sec. 3.2, from memory); in Y terms
+    # |y21|^2 / (4 g11 g22).  S from scikit-rf's y2s.
+    import skrf.network as skn
+
+    from devmodels.analysis import stability_arrays_y
+
+    s = skn.y2s(_unilateral_y(0.0), 50.0)
+    s11, s21, s22 = s[0, 0, 0], s[0, 1, 0], s[0, 1, 1]
+    limit = 10 * math.log10(abs(s21) ** 2 / ((1 - abs(s11) ** 2) * (1 - abs(s22) ** 2)))
+    assert limit == pytest.approx(10 * math.log10(abs(40e-3 - 5e-3j) ** 2 / (4 * 0.4e-3 * 0.1e-3)), abs=1e-9)
+    for eps in (0.0, 1e-300, 1e-20, 1e-13):  # exactly unilateral, then nearly
+        y = _unilateral_y(eps)
+        st = stability_arrays_y(y, 50.0)
+        assert st["msg_db"][0] == pytest.approx(limit, abs=1e-6), eps
+        s_eps = skn.y2s(y, 50.0)
+        assert stability_arrays(s_eps)["msg_db"][0] == pytest.approx(limit, abs=1e-6), eps
+        res = terminate(dm.TwoPort(None, y[0], "y"), 1e3, 10e3)
+        assert res.msg_is_mag[0] and res.msg_db[0] == pytest.approx(limit, abs=1e-6)
+    assert np.isnan(stability_arrays_y(_unilateral_y(0.0), 50.0)["k"][0])  # K stays unbounded
+
+
+def test_mag_near_unilateral_matches_scikit_rf_and_mpmath():
+    # Where S12 is small but not tiny, scikit-rf's max_gain (MSG / (K + sqrt(K^2 - 1))) is
+    # accurate and must agree; for tiny S12 its K^2 loses digits, so the reference is the same
+    # definition at 50 digits with mpmath (Rollett 1962 for K, Gonzalez ch. 3 for MAG, from memory).
+    import mpmath as mp
+    import skrf
+
+    from devmodels.analysis import stability_arrays_y
+
+    eps = np.array([1e-9, 1e-8, 1e-7])
+    y = np.concatenate([_unilateral_y(e) for e in eps])
+    net = skrf.Network(frequency=skrf.Frequency.from_f(np.arange(1, 4) * 1e6, unit="hz"), y=y, z0=50.0)
+    st = stability_arrays_y(y, 50.0)
+    assert np.all(st["k"] > 1)
+    np.testing.assert_allclose(st["msg_db"], 10 * np.log10(net.max_gain), atol=1e-8)
+    mp.mp.dps = 50
+    for e in (1e-9, 1e-12, 1e-15):
+        yy = [[mp.mpc(0.4e-3, 0.2e-3), mp.mpf(e)], [mp.mpc(40e-3, -5e-3), mp.mpc(0.1e-3, 0.05e-3)]]
+        p = yy[0][1] * yy[1][0]
+        k = (2 * mp.re(yy[0][0]) * mp.re(yy[1][1]) - mp.re(p)) / abs(p)
+        mag = abs(yy[1][0] / yy[0][1]) / (k + mp.sqrt(k * k - 1))
+        got = stability_arrays_y(_unilateral_y(e), 50.0)["msg_db"][0]
+        assert got == pytest.approx(float(10 * mp.log10(mag)), abs=1e-9), e
+
+
+def test_unilateral_without_loss_at_a_port_has_no_finite_mag():
+    # y12 = 0 and g22 = 0 (lossless output): the gain into a matched lossless output is
+    # unbounded, so msg_db stays NaN and is not called a MAG (Gonzalez sec. 3.2, from memory:
+    # Gu,max = |y21|^2 / (4 g11 g22) -> infinity).
+    res = terminate(dm.TwoPort(None, [[1e-3, 0.0], [40e-3, 0.0]], "y"), 600.0, 10e3)
+    assert np.isnan(res.msg_db[0]) and not res.msg_is_mag[0] and res.unilateral[0]
+
+
+def test_stability_verdict_has_a_stated_tolerance():
+    # A unilateral device with a lossless output: S12 = 0 and |S22| = 1, so mu = 1/|S22| = 1
+    # exactly (Edwards and Sinsky 1992: with S12 = 0, mu = (1 - |S11|^2) / (|S22| (1 - |S11|^2)),
+    # from memory).  Rounding puts the computed mu on either side of 1 from point to point; the
+    # verdict must not follow the rounding: every point is marginal.
+    from devmodels.analysis import STABILITY_TOL
+
+    m = dm.HybridPi.from_bias(dm.BipolarBias(ic=1e-3, vce=5.0, beta=100, ft=300e6))
+    f = np.geomspace(1e3, 1e8, 41)
+    res = terminate(dm.Stage(m, "ce").two_port(f, "y"), 600.0, 10e3)
+    np.testing.assert_allclose(res.mu, 1.0, rtol=0, atol=1e-12)
+    assert not np.any(res.unconditional) and np.all(res.marginal)
+    assert list(res.stability) == ["marginal"] * f.size
+    assert res.verdicts(3)["stability"] == "marginal" and res.verdicts(-1)["unconditional"] is False
+    # beyond the tolerance the verdict is decided: mu = (1 + z0 g22) / (1 - z0 g22) for y12 = 0
+    # (|S22| = |1 - z0 y22| / |1 + z0 y22| with y22 real), so g22 = +-1e-8 S moves mu by about
+    # +-1e-6 at 50 ohm
+    assert STABILITY_TOL < 1e-6
+    for g22, verdict in ((1e-8, "unconditional"), (-1e-8, "conditional"), (1e-14, "marginal")):
+        r = terminate(dm.TwoPort(None, [[1e-3, 0.0], [40e-3, g22]], "y"), 600.0, 10e3, z0=50.0)
+        assert r.mu[0] == pytest.approx((1 + 50 * g22) / (1 - 50 * g22), rel=1e-12)
+        assert r.stability[0] == verdict and bool(r.unconditional[0]) == (verdict == "unconditional")

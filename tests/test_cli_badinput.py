@@ -33,7 +33,7 @@ BASE: dict[str, list[str]] = {
     "crosscheck": [BJT, "-c", "ce", "-f", "1MHz"],
     "gain": [BJT, "-f", "1MHz"],
     "compare": [BJT],
-    "sweep": [BJT, "-n", "5"],
+    "sweep": [BJT, "-n", "5", "--noise"],  # --noise: its options (--flicker-corner, --gamma-n) get real runs
     "bias": ["--network", "divider", "--vcc", "12", "--r1", "68k", "--r2", "12k", "--rc", "4.7k", "--re", "1k",
              "--beta", "200"],
     "spread": ["--ic", "1mA", "--vce", "5", "--beta-min", "80", "--beta-max", "200", "-n", "200", "--seed", "1"],

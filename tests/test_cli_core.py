@@ -114,7 +114,7 @@ ERRORS = [
     (["model", "nonexistent.toml"], "nonexistent.toml"),
     (["params", "--ic", "1mA", "--vce", "5", "--beta", "100", "--kind", "q"], "kind"),
     (["params", "--ic", "1mA", "--vce", "5", "--beta", "100", "--config", "cx"], "config"),
-    (["params", "--ic", "1mA", "--vce", "5", "--beta", "100", "--kind", "z"], "z parameters do not exist"),
+    (["params", "--ic", "1mA", "--vce", "5", "--beta", "100", "--kind", "z"], "Z parameters do not exist"),
     (["params", "--ic", "1mA", "--vce", "5", "--beta", "100", "--freq", "-1MHz"], "freq"),
     (["params", "--ic", "1mA", "--vce", "5", "--beta", "100", "--z0", "-50"], "z0"),
     (["params", "--params", "h=1,2,3"], "params"),
@@ -132,6 +132,18 @@ ERRORS = [
 @pytest.mark.parametrize("args,needle", ERRORS)
 def test_error_paths_exit_2_with_one_line(run, args, needle):
     assert_one_line_error(run, *args, match=needle)
+
+
+@pytest.mark.parametrize("kind,why", [("z", "Y is singular: det Y = 0"), ("g", "y22 = 0"), ("h", "y11 = 0")])
+def test_missing_parameter_set_is_named_first_in_plain_words(run, kind, why):
+    # A MOSFET without capacitances at 1 kHz: y11 = 0 (an open gate) and y22 = 0 with no
+    # lambda, so Y is singular: Z, G and H do not exist (definitions of Z = Y^-1, h11 = 1/y11,
+    # g22 = 1/y22; Pozar, Microwave Engineering, table 4.2, from memory).  The message
+    # starts with the missing value's name and uses no solver words.
+    line = assert_one_line_error(run, "params", "--device", "nmos", "--id", "1mA", "--vds", "2", "--vov",
+                                 "0.2", "-k", kind,
+                                 prefix=f"{kind}: the {kind.upper()} parameters do not exist for this two-port")
+    assert f"({why}, at 1000 Hz; converting Y to {kind.upper()})" in line and "pivot" not in line
 
 
 def test_malformed_and_unknown_toml(run, tmp_path):
@@ -212,3 +224,136 @@ def test_si_prefixed_values(text, unit, value):
     from devmodels.units import parse_quantity
 
     assert parse_quantity(text, unit, "x") == pytest.approx(value, rel=1e-12)
+
+
+# --- values at the edges, as the terminated analysis shows them -------------------------------
+def test_gain_with_an_ideal_source_says_gt_and_ga_do_not_apply(run, run_json):
+    # Rs = 0: the source's available power is unlimited, so GT = GA = 0 (Gonzalez sec. 2.6,
+    # from memory): null in JSON with a note, "n/a (Rs = 0)" in the table, never "unbounded".
+    path = str(EXAMPLES / "vhf_gain_stage.toml")
+    d = run_json("gain", path, "--rs", "0", "-f", "1MHz")
+    p = d["points"][0]
+    assert p["gt_db"] is None and p["ga_db"] is None and p["gp_db"] is not None
+    assert p["notes"]["gt_db"].startswith("ideal source") and p["notes"]["ga_db"] == p["notes"]["gt_db"]
+    code, out, _ = run("gain", path, "--rs", "0", "-f", "1MHz")
+    row = next(line for line in out.splitlines() if "1 MHz" in line and "dB" in line)
+    assert code == 0 and row.count("n/a (Rs = 0)") == 2 and "unbounded" not in row
+    # with a source resistance the same command has numbers and no notes about the source
+    q = run_json("gain", path, "--rs", "50", "-f", "1MHz")["points"][0]
+    assert q["gt_db"] is not None and "gt_db" not in q["notes"]
+
+
+def test_gain_of_an_exactly_unilateral_two_port_shows_its_mag(run, run_json):
+    # y12 = 0, g11 = 0.4 mS, g22 = 0.1 mS, |y21| = 40 mS: MAG = |y21|^2 / (4 g11 g22) = 1e4
+    # (the unilateral maximum, Gonzalez sec. 3.2, from memory) = 40 dB; K stays unbounded.
+    args = ("gain", "--params", "y=0.4m+j0.2m,0,40m,0.1m", "--rs", "1k", "--rl", "10k")
+    p = run_json(*args)["points"][0]
+    assert p["msg_db"] == pytest.approx(40.0, abs=1e-9) and p["msg_is_mag"] is True and p["k"] is None
+    assert "unilateral maximum" in p["notes"]["msg_db"]
+    code, out, _ = run(*args)
+    assert code == 0 and "40.00 dB MAG" in out and "unilateral maximum" in out
+
+
+def test_gain_verdict_on_the_stability_boundary_does_not_follow_rounding(run, run_json):
+    # No C_mu and no ro: S12 = 0 and |S22| = 1, so mu = 1 exactly (Edwards and Sinsky 1992,
+    # from memory); the computed mu is 1 or 1 + 2e-16.  Both points are marginal.
+    args = ("gain", "--ic", "1mA", "--vce", "5", "--beta", "100", "--ft", "300MHz", "--rs", "600", "--rl", "10k",
+            "-f", "1kHz", "-f", "10MHz")
+    pts = run_json(*args)["points"]
+    assert [p["stability"] for p in pts] == ["marginal", "marginal"]
+    assert [p["unconditionally_stable"] for p in pts] == [False, False]
+    code, out, _ = run(*args)
+    assert code == 0 and out.count("1 (marginal)") == 2 and "2 of 2 points are marginal" in out
+
+
+def test_help_panel_titles_keep_their_brackets(run):
+    # typer prints panel titles as rich markup, where "[network]" reads as a style tag and
+    # vanishes; every command's help must show the title as written (schema.PANELS).
+    import importlib
+
+    import typer.main
+
+    from devmodels.schema import PANELS
+
+    names = sorted(typer.main.get_command(importlib.import_module("devmodels.cli.app").app).commands)
+    assert "gain" in names
+    with_panel = 0
+    for name in names:
+        code, out, _ = run(name, "--help")
+        assert code == 0, name
+        assert "( table)" not in out, name
+        if "Stage network in the AC analysis" in out:
+            with_panel += 1
+            assert PANELS["stagenet"] in out, name  # "... ([network] table)"
+    assert with_panel >= 5  # the stage commands: gain, compare, sweep, spread, ...
+    # help asked twice in one process is not escaped twice
+    code, out, _ = run("gain", "--help")
+    assert PANELS["stagenet"] in out and "\\[network]" not in out
+
+
+def _relation(out: str, element: str) -> str:
+    """The relation column of a model table row."""
+    row = next(line for line in out.splitlines() if line.startswith(f"│ {element} "))
+    return row.split("│")[3].strip()
+
+
+def test_model_tells_defaults_from_given_values(run):
+    # C_mu, rb default to 0 and C_pi is 0 without fT: none of them was given, so none is
+    # labelled "given"; values that were given are.
+    code, out, _ = run("model", "--ic", "1mA", "--vce", "5", "--beta", "100")
+    assert code == 0
+    assert _relation(out, "C_mu") == "not given: 0" and _relation(out, "rb") == "not given: 0"
+    assert "no fT given: 0" in _relation(out, "C_pi") and "no VA given" in _relation(out, "ro")
+    code, out, _ = run("model", *BIAS, "--rb", "50")
+    assert _relation(out, "C_mu") == "given" and _relation(out, "rb") == "given"
+    assert _relation(out, "C_pi") == "gm / (2 pi fT) - C_mu"
+    code, out, _ = run("model", "--device", "nmos", "--id", "1mA", "--vds", "2", "--vov", "0.2", "--cgs", "1p")
+    assert code == 0 and _relation(out, "Cgs") == "given" and _relation(out, "Cgd") == "not given: 0"
+
+
+@pytest.mark.parametrize("args", [("sweep", "--out"), ("gain", "--plot")])
+def test_a_folder_as_output_is_named_a_folder(run, tmp_path, args):
+    # A folder given where a file is expected is reported as a folder, not as a file type.
+    line = assert_one_line_error(run, args[0], "--ic", "1mA", "--vce", "5", "--beta", "100", args[1], str(tmp_path),
+                                 prefix=f"{args[1][2:]}: cannot write {str(tmp_path)!r}: it is a directory")
+    assert "file type" not in line and "ending in" not in line
+
+
+@pytest.mark.parametrize("typed,meant", [("npx", "npn"), ("pnx", "pnp"), ("nmso", "nmos"), ("pjfte", "pjfet")])
+def test_device_suggestion_prefers_the_common_start(run, tmp_path, typed, meant):
+    # "npx" is as close to "pnp" as to "npn" by difflib's ratio (two matching letters each);
+    # a slip is rarely in the first letter, so the name that starts alike is suggested
+    # (common practice, no source).  The same from a bias file and from the option.
+    assert_one_line_error(run, "model", "--device", typed, "--ic", "1mA", "--vce", "5", "--beta", "100",
+                          match=f"(did you mean {meant}?)")
+    f = tmp_path / "dev.toml"
+    f.write_text(f'device = "{typed}"\nic = "1mA"\nvce = 5\nbeta = 100\n')
+    assert_one_line_error(run, "model", str(f), match=f"(did you mean {meant}?)")
+
+
+def test_compare_counts_an_open_output_as_the_highest_impedance(run_json):
+    # No C_mu and no ro: the CE and CB outputs are open (zout null, shown "open"), the CC
+    # output is re-like.  An open port is infinitely high, so CC cannot win "highest output
+    # impedance"; CE and CB tie there (no winner); CC keeps "lowest" (Gray and Meyer ch. 3,
+    # from memory: an ideal transconductor's output resistance is infinite).
+    d = run_json("compare", "--ic", "1mA", "--vce", "5", "--beta", "100", "--rs", "0")
+    assert d["ce"]["zout"] is None and d["cb"]["zout"] is None and d["cc"]["zout"] is not None
+    assert d["best"]["output_impedance_high"] is None and d["best"]["output_impedance_low"] == "cc"
+    # with ro every output is finite; the CB output, ro (1 + gm (Rs || r_pi)) behind a source
+    # resistance, is the highest (Gray and Meyer ch. 3, from memory)
+    d = run_json("compare", "--ic", "1mA", "--vce", "5", "--beta", "100", "--va", "80", "--rs", "600")
+    assert d["ce"]["zout"] is not None and d["cb"]["zout"] is not None
+    assert d["best"]["output_impedance_high"] == "cb"
+
+
+def test_model_shows_lead_inductances(run_json, run):
+    """Lead inductances given as options reach the model and are reported under their keys
+    (0 when not given); the table names them only when one is there."""
+    d = run_json("model", "--ic", "1mA", "--vce", "5", "--beta", "100", "--l-b", "2nH", "--l-e", "0.5n")
+    assert (d["l_b"], d["l_c"], d["l_e"]) == (2e-9, 0.0, 0.5e-9)
+    f = run_json("model", "--device", "nmos", "--id", "1mA", "--vds", "5", "--vov", "0.2", "--l-s", "1nH")
+    assert (f["l_g"], f["l_d"], f["l_s"]) == (0.0, 0.0, 1e-9)
+    code, out, _ = run("model", "--ic", "1mA", "--vce", "5", "--beta", "100", "--l-b", "2nH")
+    assert code == 0 and "l_b / l_c / l_e" in out and "2 nH" in out
+    code, out, _ = run("model", "--ic", "1mA", "--vce", "5", "--beta", "100")
+    assert code == 0 and "l_b" not in out

@@ -160,6 +160,19 @@ def test_connect_warns_about_the_port_condition(run):
     assert d["port_condition"] is None and "warning" in err and len(err.strip().splitlines()) == 1
 
 
+def test_connect_states_the_port_condition_once(run, tmp_path):
+    # The verdict line names it once: no "Port condition holds: ... the port condition holds".
+    q = _bjt_file(tmp_path)
+    code, out, _ = run("connect", "--how", "series-series", "--net", f"ce:{q}", "--net", "shunt:47",
+                       "--freq", "10MHz")
+    line = out.strip().splitlines()[-1]
+    assert code == 0 and line.startswith("Port condition: series-series:") and line.count("holds") == 1
+    code, out, _ = run("connect", "--how", "shunt-shunt", "--net", f"ce:{q}", "--net", "series:10k",
+                       "--freq", "10MHz")
+    line = out.strip().splitlines()[-1]
+    assert code == 0 and line.count("holds") == 1
+
+
 def test_formula_value_equals_the_engine(run_json, tmp_path):
     m = _nmos_file(tmp_path)
     d = run_json("formula", m, "--config", "cd", "--result", "zout", "--rs", "1k", "--freq", "300MHz")

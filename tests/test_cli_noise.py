@@ -324,9 +324,114 @@ def test_ic_sweep_optimum_at_the_end_is_flagged(run_json):
     (["--beta", "100", "--ic-sweep", "10uA:1mA", "--config", "cb"], "config:"),
     (["--beta", "100", "--ic-sweep", "10uA:1mA", "--plot", "nf.txt"], "plot:"),
     (["--beta", "100", "--ic", "1mA", "--vce", "5", "--rs-list", "100"], "rs-list:"),
-    (["--beta", "100", "--ic", "1mA", "--vce", "5", "--plot", "nf.png"], "plot:"),
+    (["--beta", "100", "--ic", "1mA", "--vce", "5", "--plot", "nf.txt"], "plot:"),  # (.png: noise circles)
     (["--device", "nmos", "--id", "2mA", "--vds", "3", "--vov", "0.25", "--ic-sweep", "10uA:1mA"], "ic-sweep:"),
     (["--ic-sweep", "10uA:1mA"], "bias point:"),
 ])
 def test_ic_sweep_bad_input(run, args, name):
     assert_one_line_error(run, "noise", *args, prefix=name)
+
+
+# --- noise --out: a Touchstone file with a noise block; --circles and --plot ----------------------
+VHF = EXAMPLES / "vhf_gain_stage.toml"
+
+
+@pytest.mark.parametrize("name, z0", [("lna.s2p", "50"), ("lna.ts", "75")])
+def test_out_read_back_by_scikit_rf_and_devmodels(run, run_json, tmp_path, name, z0):
+    # scikit-rf reads the noise block (nfmin, rn, g_opt at the file's reference) and devmodels' own
+    # reader gives the noise parameters back (noise --touchstone)
+    import skrf
+
+    path = tmp_path / name
+    args = ["noise", str(VHF), "-f", "1MHz,30MHz", "-f", "300MHz", "--z0", z0, "--rs", "80"]
+    code, out, err = run(*args, "--out", str(path))
+    assert code == 0 and "wrote Touchstone" in err and "NF at Rs" in out
+    d = run_json(*args)
+    net = skrf.Network(str(path))
+    zr = float(z0)
+    np.testing.assert_allclose(net.z0[:, 0], zr)
+    np.testing.assert_allclose(net.nfmin_db, [p["nfmin_db"] for p in d["points"]], rtol=1e-9)
+    np.testing.assert_allclose(net.rn, [p["rn"] for p in d["points"]], rtol=1e-9)
+    np.testing.assert_allclose(net.g_opt, [complex(*p["gamma_opt"]) for p in d["points"]], rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(10 * np.log10(net.nf(80.0)), [p["nf_db"] for p in d["points"]], rtol=1e-9)
+    back = run_json("noise", "--touchstone", str(path), "--rs", "80", "--z0", z0)
+    for p, q in zip(back["points"], d["points"]):
+        for k in ("nf_db", "nfmin_db", "rn"):
+            assert p[k] == pytest.approx(q[k], rel=1e-9)
+        _same(p["gamma_opt"], q["gamma_opt"], rel=1e-9)
+    # the S parameters in the file are the stage's (params at the same z0)
+    s = run_json("params", str(VHF), "-k", "s", "--z0", z0, "-f", "1MHz,30MHz,300MHz")
+    want = np.array([[[complex(*p["11"]), complex(*p["12"])], [complex(*p["21"]), complex(*p["22"])]]
+                     for p in s["points"]])
+    assert np.max(np.abs(net.s - want)) < 1e-9 * np.max(np.abs(want))
+
+
+def test_circles_in_json_against_scikit_rf(run, run_json, tmp_path):
+    # centre and radius of each level against scikit-rf's Network.nf_circle (Pozar, from memory)
+    import warnings
+
+    import skrf
+
+    path = tmp_path / "c.s2p"
+    args = ["noise", str(VHF), "-f", "10MHz,100MHz,1GHz", "--rs", "50"]
+    assert run(*args, "--out", str(path))[0] == 0
+    d = run_json(*args, "--circles", "3,4dB,15")
+    net = skrf.Network(str(path))
+    theta = np.linspace(0, 2 * np.pi, 5)  # scikit-rf's points at 0, 90, 180, 270, 360 degrees
+    for j, level in enumerate((3.0, 4.0, 15.0)):
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)
+            loci = net.nf_circle(level, npoints=5)
+        for k, p in enumerate(d["points"]):
+            c = p["circles"][j]
+            assert c["nf_db"] == level
+            if level < p["nfmin_db"]:  # no circle below the least noise figure
+                assert c["centre"] is None and c["radius"] is None
+                continue
+            want = complex(*c["centre"]) + c["radius"] * np.exp(1j * theta)
+            np.testing.assert_allclose(loci[:, k], want, rtol=1e-9, atol=1e-12)
+    assert any(c["centre"] is None for p in d["points"] for c in p["circles"])  # 3 dB at 1 GHz: none
+
+
+def test_circles_plot_and_table(run, tmp_path):
+    path = tmp_path / "circles.svg"
+    code, out, err = run("noise", str(VHF), "-f", "10MHz,100MHz", "--plot", str(path))
+    assert code == 0, err
+    text = path.read_text()
+    assert "Γopt at 10 MHz" in text and "NF = " in text and "plot written" in err
+    code, out, err = run("noise", str(VHF), "-f", "10MHz,1GHz", "--circles", "3,4")
+    assert code == 0 and "Noise circles" in out and "below NFmin" in out and not NAN_INF.search(out)
+
+
+@pytest.mark.parametrize("args, prefix", [
+    (["--circles", "abc"], "circles:"),
+    (["--circles", "0"], "circles: expected noise figures above 0 dB"),
+    (["--circles", "1,2,3,4,5,6,7,8,9"], "circles: at most 8"),
+    (["--out", "x.csv"], "out: a noise-parameter block is written in Touchstone"),
+    (["--out", "x.s2p", "-f", "1MHz,1kHz"], "freq: a Touchstone file lists increasing frequencies"),
+    (["--plot", "x.pdf"], "plot:"),
+    (["--ic-sweep", "1mA:10mA", "--out", "x.s2p"], "out: not used with --ic-sweep"),
+    (["--ic-sweep", "1mA:10mA", "--circles", "2"], "circles: not used with --ic-sweep"),
+    (["--rs-list", "1k"], "rs-list: used with --ic-sweep only"),
+])
+def test_out_and_circles_bad_input(run, tmp_path, monkeypatch, args, prefix):
+    monkeypatch.chdir(tmp_path)
+    assert_one_line_error(run, "noise", str(AUDIO), *args, prefix=prefix)
+    assert list(tmp_path.iterdir()) == []
+
+
+# --- --bare: the transistor alone at the point the network solves ---------------------------
+def test_bare_is_the_transistor_at_the_solved_point(run_json):
+    """``noise FILE --bare`` equals the library's noise of the stage without its network (the
+    same model, at the operating point the network sets), and differs from the built stage,
+    whose bias and emitter resistors add thermal noise."""
+    built_file = EXAMPLES / "ce_stage_built.toml"
+    bare = run_json("noise", str(built_file), "--rs", "600", "-f", "10kHz", "--bare")
+    built = run_json("noise", str(built_file), "--rs", "600", "-f", "10kHz")
+    stage = Inputs(built_file, {}, bare=True).stage("ce")
+    assert stage.network is None
+    want = noise_parameters(stage_noise(stage, np.array([1e4])), zs=600.0).as_points()[0]
+    for k in KEYS:
+        _same(bare["points"][0][k], want[k])
+    # the network's resistors are noisy: the built stage is noisier than the transistor alone
+    assert built["points"][0]["nf_db"] > bare["points"][0]["nf_db"] + 0.5

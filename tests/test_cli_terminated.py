@@ -354,3 +354,145 @@ def test_streamed_sweep_has_its_own_larger_limit(run):
     assert code == 2 and err.startswith("devmodels: error: points:")
     code, _, err = run("sweep", *BIAS, "-n", str(MAX_STREAMED_POINTS + 1), "--out", "x.s2p")
     assert code == 2 and err.startswith("devmodels: error: points:")
+
+
+# --- noise in sweep and in gain ----------------------------------------------------------------
+def _library_noise(f, zs, config="ce"):
+    from devmodels.noise import noise_parameters, stage_noise
+
+    return noise_parameters(stage_noise(stage(config), np.asarray(f)), zs=zs)
+
+
+def test_sweep_noise_adds_keys_and_changes_none(run_json):
+    plain = run_json("sweep", *BIAS, "--points", "13", "--rs", "600")
+    d = run_json("sweep", *BIAS, "--points", "13", "--rs", "600", "--noise")
+    assert list(d) == list(plain) + ["t0"] and d["t0"] == 290.0
+    for p, q in zip(d["points"], plain["points"]):
+        assert list(p) == list(q) + ["nf_db", "nfmin_db"]
+        assert {k: p[k] for k in q} == q
+    assert d["figures"] == plain["figures"]
+    f = [p["freq"] for p in d["points"]]
+    res = _library_noise(f, 600.0)
+    np.testing.assert_allclose([p["nf_db"] for p in d["points"]], res.nf_db, rtol=1e-12)
+    np.testing.assert_allclose([p["nfmin_db"] for p in d["points"]], res.nfmin_db, rtol=1e-12)
+    # the noise figure rises above the corner of the device (fT = 300 MHz): common practice, no source
+    assert d["points"][-1]["nf_db"] > d["points"][0]["nf_db"] + 10
+
+
+@pytest.mark.parametrize("name", ["noisy.s2p", "noisy.ts"])
+def test_sweep_noise_touchstone_read_by_scikit_rf_and_devmodels(run, run_json, tmp_path, name):
+    # scikit-rf reads the noise block (nfmin, rn, g_opt) and evaluates NF at the source itself
+    # (Network.nf: Fmin + Rn/Gs |Ys - Yopt|^2); devmodels' own reader gives the same parameters.
+    import skrf
+
+    from devmodels.touchstone import read_touchstone_file
+
+    path = tmp_path / name
+    code, _, err = run("sweep", *BIAS, "--points", "11", "--noise", "--rs", "200", "--out", str(path))
+    assert code == 0 and "with noise parameters" in err
+    d = run_json("sweep", *BIAS, "--points", "11", "--noise", "--rs", "200")
+    f = np.array([p["freq"] for p in d["points"]])
+    res = _library_noise(f, 200.0)
+    net = skrf.Network(str(path))
+    np.testing.assert_allclose(net.noise_freq.f, f, rtol=1e-12)
+    np.testing.assert_allclose(net.nfmin_db, [p["nfmin_db"] for p in d["points"]], rtol=1e-9)
+    np.testing.assert_allclose(net.rn, res.rn, rtol=1e-9)
+    np.testing.assert_allclose(net.g_opt, res.gamma_opt, rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(10 * np.log10(net.nf(200.0)), [p["nf_db"] for p in d["points"]], rtol=1e-9)
+    data = read_touchstone_file(path)
+    np.testing.assert_allclose(data.noise.rn, res.rn, rtol=1e-12)
+    np.testing.assert_allclose(data.noise.nfmin_db, res.nfmin_db, rtol=1e-12)
+
+
+def test_sweep_noise_csv_and_json_files_streamed(run, run_json, tmp_path):
+    d = run_json("sweep", *BIAS, "--points", "17", "--noise")
+    code, out, err = run("sweep", *BIAS, "--points", "17", "--noise", "--out", str(tmp_path / "a.csv"))
+    assert code == 0 and "NF at Rs" in out and "NFmin" in out and "290 K" in out
+    lines = [ln for ln in (tmp_path / "a.csv").read_text().splitlines() if not ln.startswith("#")]
+    assert lines[0].endswith(",nf at rs [dB],nfmin [dB]")
+    vals = np.array([[float(x) for x in ln.split(",")] for ln in lines[1:]])
+    np.testing.assert_allclose(vals[:, 9], [p["nf_db"] for p in d["points"]], rtol=1e-13)
+    np.testing.assert_allclose(vals[:, 10], [p["nfmin_db"] for p in d["points"]], rtol=1e-13)
+    assert run("sweep", *BIAS, "--points", "17", "--noise", "--out", str(tmp_path / "a.json"))[0] == 0
+    j = json.loads((tmp_path / "a.json").read_text())
+    assert j["t0"] == 290.0 and j["rs"] == [50.0, 0.0] and "stage" in j and "figures" in j
+    np.testing.assert_allclose([p["nf_db"] for p in j["points"]], [p["nf_db"] for p in d["points"]], rtol=1e-13)
+
+
+def test_sweep_noise_plot_has_a_noise_panel(run, tmp_path):
+    path = tmp_path / "n.svg"
+    code, _, err = run("sweep", *BIAS, "--points", "31", "--noise", "--plot", str(path))
+    assert code == 0, err
+    text = path.read_text()
+    assert "Noise figure (source at T0 = 290 K)" in text and "NFmin" in text
+
+
+def test_sweep_noise_options_reach_the_model(run_json):
+    # a 1/f corner of the base noise raises NF at low frequency only (2 q IB (1 + fc/f)): from memory
+    base = run_json("sweep", *BIAS, "--points", "5", "--start", "10Hz", "--stop", "100MHz", "--noise")
+    fl = run_json("sweep", *BIAS, "--points", "5", "--start", "10Hz", "--stop", "100MHz", "--noise",
+                  "--flicker-corner", "10kHz")
+    assert fl["points"][0]["nf_db"] > base["points"][0]["nf_db"] + 1
+    assert fl["points"][-1]["nf_db"] == pytest.approx(base["points"][-1]["nf_db"], abs=1e-3)
+
+
+@pytest.mark.parametrize("args, name", [
+    (["--flicker-corner", "1k"], "flicker-corner: a noise option"),
+    (["--gamma-n", "1"], "gamma-n: a noise option"),
+    (["--noise", "--rs", "0"], "rs:"),
+    (["--noise", "--kind", "y", "--out", "x.y2p"], "out: a Touchstone noise block goes with S"),
+    (["--noise", "--gamma-n", "1"], "gamma-n: a FET option"),
+    (["--noise", "--flicker-corner", "-1"], "flicker-corner:"),
+])
+def test_sweep_noise_bad_input(run, tmp_path, monkeypatch, args, name):
+    monkeypatch.chdir(tmp_path)
+    assert_one_line_error(run, "sweep", *BIAS, "--points", "5", *args, prefix=name)
+    assert not (tmp_path / "x.y2p").exists()
+
+
+def _noisy_file(run, tmp_path, name="lna.s2p", freqs=("10MHz", "100MHz", "1GHz")):
+    path = tmp_path / name
+    code, _, err = run("noise", *BIAS, *[a for f in freqs for a in ("-f", f)], "--out", str(path))
+    assert code == 0, err
+    return path
+
+
+def test_gain_touchstone_with_noise_block(run, run_json, tmp_path):
+    import skrf
+
+    path = _noisy_file(run, tmp_path)
+    d = run_json("gain", "--touchstone", str(path), "--rs", "120")
+    n = run_json("noise", "--touchstone", str(path), "--rs", "120")
+    assert d["t0"] == 290.0 and len(d["points"]) == 3
+    for p, q in zip(d["points"], n["points"]):
+        assert set(p) >= GAIN_KEYS | {"nf_db", "nfmin_db"}
+        assert p["nf_db"] == pytest.approx(q["nf_db"], rel=1e-12) and p["nfmin_db"] == q["nfmin_db"]
+    # scikit-rf's own NF at the source from the same file (Network.nf)
+    net = skrf.Network(str(path))
+    np.testing.assert_allclose([p["nf_db"] for p in d["points"]], 10 * np.log10(net.nf(120.0)), rtol=1e-9)
+    code, out, err = run("gain", "--touchstone", str(path), "--rs", "120")
+    assert code == 0 and "NF at Rs" in out and "the file's data" in out
+    # a frequency that is not a noise frequency: no NF (not interpolated), a warning
+    code, out, err = run("gain", "--touchstone", str(path), "-f", "20MHz", "--json")
+    p = json.loads(out)["points"][0]
+    assert code == 0 and p["nf_db"] is None and p["nfmin_db"] is None and "not interpolated" in err
+
+
+def test_gain_touchstone_without_noise_block_keeps_its_keys(run, run_json, tmp_path):
+    path = tmp_path / "plain.s2p"
+    assert run("sweep", *BIAS, "--points", "5", "--out", str(path))[0] == 0
+    d = run_json("gain", "--touchstone", str(path))
+    assert "t0" not in d and all("nf_db" not in p for p in d["points"])
+
+
+def test_gain_touchstone_with_unusable_noise_block_still_gives_the_gains(run, tmp_path):
+    # a noise frequency outside the network data: the gains stand, the noise is a warning
+    path = tmp_path / "odd.ts"
+    path.write_text("[Version] 2.0\n# Hz S RI R 50\n[Number of Ports] 2\n[Two-Port Data Order] 12_21\n"
+                    "[Number of Frequencies] 2\n[Number of Noise Frequencies] 1\n[Reference] 50 50\n"
+                    "[Network Data]\n1e6 0.5 0 0.01 0 5 0 0.5 0\n2e6 0.5 0 0.01 0 5 0 0.5 0\n"
+                    "[Noise Data]\n3e6 1.2 0.3 10 15\n[End]\n")
+    code, out, err = run("gain", "--touchstone", str(path), "--json")
+    d = json.loads(out)
+    assert code == 0 and len(d["points"]) == 2 and d["points"][0]["gt_db"] is not None
+    assert all(p["nf_db"] is None for p in d["points"]) and "noise: not computed" in err

@@ -156,8 +156,9 @@ def test_missing_set_raises_instead_of_inf(dst):
         s = convert(y, "y", "s")
         assert _rel(s, skrf_net.y2s(y, 50.0)) < 1e-12 and s[0, 1, 1] == pytest.approx(1.0)
     else:
-        with pytest.raises(dm.SingularParameterError, match=rf"the {dst} parameters do not exist.*"
-                                                           rf"y -> {dst} pivot is singular at point 0"):
+        why = {"z": r"Y is singular: det Y = 0", "g": "y22 = 0"}[dst]
+        with pytest.raises(dm.SingularParameterError, match=rf"^{dst}: the {dst.upper()} parameters do not "
+                                                           rf"exist for this two-port \({why}, at point 0"):
             convert(y, "y", dst)
 
 
@@ -219,7 +220,7 @@ def test_reciprocity_carried_across_kinds(a, b, d):
         ad, bc = t[0, 0, 0] * t[0, 1, 1], t[0, 0, 1] * t[0, 1, 0]
         assert abs(ad - bc - 1.0) <= 1e-9 * (abs(ad) + abs(bc))
     else:
-        with pytest.raises(dm.SingularParameterError, match="z -> abcd"):
+        with pytest.raises(dm.SingularParameterError, match="^abcd: .*z21 = 0: no forward transmission"):
             convert(z, "z", "abcd")
 
 

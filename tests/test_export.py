@@ -248,3 +248,22 @@ def test_csv_db_columns_and_comment():
     assert row[1] == pytest.approx(20 * np.log10(0.5), abs=1e-12) and row[5] == pytest.approx(20.0, abs=1e-12)
     with pytest.raises(dm.InputError, match="^format: expected ri, ma or db"):
         csv_text(tp, "xy")
+
+
+def test_extra_columns_in_csv_and_json_and_refused_by_touchstone(tmp_path):
+    # the column values go into the file as they are (a 17-digit round trip: common practice, no source)
+    from devmodels.export import Columns, csv_text, twoport_dict, write_by_extension
+
+    f = np.array([1e6, 2e6, 3e6])
+    tp = dm.TwoPort(f, np.tile(np.array([[0.2, 0.01], [3.0, 0.4]], dtype=complex), (3, 1, 1)), "s", 50.0)
+    col = Columns(("a_db", "b"), ("a [dB]", "b [1]"), np.array([[1.5, 2.0], [1.25, 3.0], [0.1, 4.0]]))
+    lines = csv_text(tp, columns=col).splitlines()
+    assert lines[1].endswith(",a [dB],b [1]") and lines[3].endswith(",1.25,3")
+    pts = twoport_dict(tp, col)["points"]
+    assert [p["a_db"] for p in pts] == [1.5, 1.25, 0.1] and [p["b"] for p in pts] == [2.0, 3.0, 4.0]
+    with pytest.raises(dm.InputError, match="^out: Touchstone has no place for a_db, b"):
+        write_by_extension(tp, tmp_path / "x.s2p", columns=col)
+    assert not (tmp_path / "x.s2p").exists()
+    bad = Columns(("a_db",), ("a [dB]",), np.array([[1.0], [np.nan], [2.0]]))
+    with pytest.raises(dm.InputError, match="^columns: a_db hold values that do not exist"):
+        csv_text(tp, columns=bad)

@@ -83,7 +83,7 @@ def test_directory_at_destination(tmp_path):
     (d / "inside").write_text("untouched\n")
     with pytest.raises(dm.OutputError) as e:
         atomic_write_text(d, "x\n")
-    assert one_line(e) == f"out: cannot write {str(d)!r}: it is a directory"
+    assert one_line(e) == f"out: cannot write {str(d)!r}: it is a directory; give the name of a file in it"
     assert (d / "inside").read_text() == "untouched\n" and names(tmp_path) == ["out.s2p"]
     with pytest.raises(dm.OutputError, match="^plot: .*directory"):
         check_destination(d, option="plot")

@@ -403,11 +403,15 @@ def test_lossless_fet_has_no_u_but_a_k():
         assert np.array_equal(np.isnan(staged.k), np.isnan(res.k)), config
 
 
-def test_unilateral_network_k_and_msg_do_not_exist_exactly():
-    # y12 = 0 exactly: S12 S21 = 0, K and MSG unbounded (NaN); a y12 of 1e-300 is not zero.
+def test_unilateral_network_k_does_not_exist_and_mag_is_the_unilateral_maximum():
+    # y12 = 0 exactly: S12 S21 = 0, K unbounded (NaN); a y12 of 1e-300 is not zero.
     y = np.array([[[1e-3 + 1e-6j, 0.0], [0.05, 1e-4]], [[1e-3 + 1e-6j, 1e-300], [0.05, 1e-4]]])
     st = stability_arrays_y(y, 50.0)
-    assert np.isnan(st["k"][0]) and np.isnan(st["msg_db"][0])
+    # the MAG at y12 = 0 is the unilateral maximum |y21|^2/(4 g11 g22) (Gonzalez, Microwave
+    # Transistor Amplifiers, sec. 3.2, from memory), continuous with y12 = 1e-300
+    assert np.isnan(st["k"][0])
+    assert st["msg_db"][0] == pytest.approx(10 * math.log10(0.05 ** 2 / (4 * 1e-3 * 1e-4)), abs=1e-9)
+    assert st["msg_db"][1] == pytest.approx(st["msg_db"][0], abs=1e-9)
     assert np.isfinite(st["k"][1]) and st["k"][1] > 1e290
     # U of the unilateral network: |y21|^2 / (4 g11 g22) (Mason 1954, from memory)
     assert st["u_db"][0] == pytest.approx(10 * math.log10(0.05 ** 2 / (4 * 1e-3 * 1e-4)), abs=1e-12)

@@ -39,3 +39,25 @@ def test_band_plot_marks_both_corners_and_the_analysis_frequency(tmp_path):
     text = p.read_text()
     for label in ("f_low = ", "f_high = ", "analysis at 1 kHz", "frequency (Hz)", "voltage gain (dB)"):
         assert label in text
+
+
+def test_noise_circles_and_noise_panel_are_drawn(tmp_path):
+    from devmodels.noise import noise_circle, noise_parameters, stage_noise
+    from devmodels.plotting import plot_noise_circles
+
+    st = _stage()
+    f = np.array([1e6, 1e8])
+    res = noise_parameters(stage_noise(st, f), zs=600.0)
+    levels = {float(res.nfmin_db.max()) + d: None for d in (0.5, 2.0)}
+    circles = {lv: noise_circle(res.fmin, res.rn, res.gamma_opt, 10 ** (lv / 10), res.z0) for lv in levels}
+    p = plot_noise_circles(tmp_path / "c.svg", res.freq, res.gamma_opt, circles, 0.3 + 0j, z0=50.0, title="t")
+    text = p.read_text()
+    for label in ("Γopt at 1 MHz", "Γopt at 100 MHz", "source", "NF = "):
+        assert label in text
+    with pytest.raises(dm.InputError, match="^plot:"):
+        plot_noise_circles(tmp_path / "c.pdf", res.freq, res.gamma_opt, circles)
+    fs = np.geomspace(1e3, 1e9, 40)
+    tp = st.two_port(fs)
+    q = plot_report(tmp_path / "n.svg", gains={"ce": terminate(tp, 600.0, 10e3)},
+                    noise={"ce": noise_parameters(stage_noise(st, fs), zs=600.0)})
+    assert "Noise figure (source at T0 = 290 K)" in q.read_text() and "CE NF at Rs" in q.read_text()

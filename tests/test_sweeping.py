@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import numpy as np
+import pytest
 
 import devmodels as dm
 from devmodels import sweeping
@@ -64,3 +65,48 @@ def test_streamed_sweep_computes_only_the_blocks_asked_for():
         sw.data[[1, 2]]
     with np.testing.assert_raises(TypeError):
         sw.data[::2]
+
+
+# --- noise over the sweep ----------------------------------------------------------------------
+def test_sweep_noise_blocks_and_the_noise_factor_relation(monkeypatch):
+    from devmodels.noise import noise_parameters, stage_noise
+
+    st = _stage()
+    f = np.geomspace(1e3, 1e10, 41)
+    whole = noise_parameters(stage_noise(st, f), zs=75.0 + 10j, z0=50.0)
+    monkeypatch.setattr(sweeping, "BLOCK", 8)
+    seen = []
+    res = sweeping.sweep_noise(st, f, 75.0 + 10j, 50.0, lambda done, total: seen.append(done))
+    assert seen == [8, 16, 24, 32, 40, 41]
+    for k in ("f", "fmin", "rn", "yopt", "en", "in_", "correlation"):
+        assert getattr(res, k) == pytest.approx(getattr(whole, k), rel=1e-13, abs=0)
+    # F = Fmin + (Rn/Gs)|Ys - Yopt|^2 at the source (Rothe and Dahlke, Proc. IRE 44, 1956)
+    ys = 1 / (75.0 + 10j)
+    assert res.f == pytest.approx(res.fmin + res.rn / ys.real * np.abs(ys - res.yopt) ** 2, rel=1e-9, abs=0)
+    assert np.all(res.f >= res.fmin) and np.all(res.fmin >= 1)
+
+
+def test_noise_blocks_of_a_streamed_sweep_equal_the_whole_sweep():
+    from devmodels import export
+
+    st = _stage()
+    f = np.geomspace(1e3, 1e10, 100)
+    whole = sweeping.sweep_noise(st, f, 50.0)
+    blocks = sweeping.NoiseBlocks(st, f, 50.0)
+    got = np.vstack([blocks[i:i + 7] for i in range(0, 100, 7)])
+    assert got.shape == (100, 2)
+    assert got[:, 0] == pytest.approx(whole.nf_db, rel=1e-13, abs=0)
+    assert got[:, 1] == pytest.approx(whole.nfmin_db, rel=1e-13, abs=0)
+    # as export columns: the CSV holds two more columns, the JSON two more keys per point
+    tp = sweeping.sweep_stream(st, f, "s", 50.0)
+    text = "".join(export.csv_chunks(tp, block=7, columns=sweeping.noise_columns(blocks)))
+    lines = text.splitlines()
+    assert lines[1].endswith(",nf at rs [dB],nfmin [dB]")
+    vals = np.array([[float(x) for x in ln.split(",")] for ln in lines[2:]])
+    assert vals.shape == (100, 11) and vals[:, 9] == pytest.approx(whole.nf_db, rel=1e-13, abs=0)
+    obj = export.twoport_dict(sweeping.sweep_two_port(st, f, 50.0).to("s", 50.0),
+                              sweeping.noise_columns(whole))
+    assert list(obj["points"][3]) == ["freq", "11", "12", "21", "22", "nf_db", "nfmin_db"]
+    assert obj["points"][3]["nfmin_db"] == whole.nfmin_db[3]
+    with pytest.raises(TypeError):
+        blocks[3]

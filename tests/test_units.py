@@ -129,3 +129,31 @@ def test_display_has_no_negative_zero():
     assert format_complex(complex(-1e-20, -0.0), "", polar=True).endswith("∠ 180.00°")
     assert "-0.00" not in format_complex(complex(2, -0.0), "", polar=True)
     assert format_complex(complex(-0.0, 2), "Ω") == "j2 Ω"
+
+
+# --- display of rounding residue and of kelvin -------------------------------------------------
+@pytest.mark.parametrize("z,unit,text", [
+    (0.99 + 5.353e-19j, "", "0.99"),  # an imaginary part 5e-19 of the magnitude: residue
+    (10e3 - 191.7e-15j, "Ω", "10 kΩ"),
+    (3e-20 + 2.5j, "", "j2.5"),  # a real part 1e-20 of the magnitude
+    (1 + 1e-11j, "", "1 + j1e-11"),  # 1e-11 of the magnitude is above the residue level: shown
+    (-2 - 3j, "Ω", "-2 Ω - j3 Ω"),
+])
+def test_format_complex_shows_rounding_residue_as_zero(z, unit, text):
+    # Parts below DISPLAY_RESIDUE (1e-12) of the magnitude are rounding residue, far below the
+    # four digits shown of the other part (common practice, no source).
+    from devmodels.units import DISPLAY_RESIDUE, format_complex
+
+    assert DISPLAY_RESIDUE == 1e-12
+    assert format_complex(z, unit) == text
+
+
+@pytest.mark.parametrize("value,text", [(9130.4, "9130 K"), (91304.0, "91300 K"), (290.0, "290 K"),
+                                        (0.5, "0.5 K"), (35.25, "35.25 K")])
+def test_kelvin_is_shown_without_a_prefix(value, text):
+    # A noise temperature of 9130 K reads as kelvin, not "9.13 kK" (SI brochure: prefixes are
+    # allowed but temperatures are quoted in plain kelvin in practice; common practice, no source).
+    from devmodels.units import format_si
+
+    assert format_si(value, "K") == text
+    assert format_si(9130.4, "Ω") == "9.13 kΩ"  # other units keep their prefixes

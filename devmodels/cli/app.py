@@ -6,15 +6,27 @@ import typer
 from typer.core import TyperCommand, TyperGroup
 
 
+def _plain_params(params: list) -> list:
+    """Flags show no value type in the help (``--json``, not ``--json <bool>``), and help panel
+    titles are shown as written: typer prints them as rich markup, where ``[network]`` would be
+    read as a style tag and vanish, so a title with ``[`` is escaped (once per option)."""
+    for p in params:
+        if getattr(p, "is_flag", False) and p.metavar is None:
+            p.metavar = ""
+        panel = getattr(p, "rich_help_panel", None)
+        if panel and "[" in panel and not getattr(p, "_panel_escaped", False):
+            from rich.markup import escape
+
+            p.rich_help_panel = escape(panel)
+            p._panel_escaped = True
+    return params
+
+
 class Group(TyperGroup):
     """The command group: its ``--help`` flag shows no value type either."""
 
     def get_params(self, ctx):
-        params = super().get_params(ctx)
-        for p in params:
-            if getattr(p, "is_flag", False) and p.metavar is None:
-                p.metavar = ""
-        return params
+        return _plain_params(super().get_params(ctx))
 
 
 app = typer.Typer(
@@ -32,11 +44,7 @@ class Command(TyperCommand):
     """A command whose flags show no value type in the help (``--json``, not ``--json <bool>``)."""
 
     def get_params(self, ctx):
-        params = super().get_params(ctx)
-        for p in params:
-            if getattr(p, "is_flag", False) and p.metavar is None:
-                p.metavar = ""
-        return params
+        return _plain_params(super().get_params(ctx))
 
 
 def command(name: str):

@@ -38,7 +38,7 @@ def model_cmd(bias_in: Inputs, as_json: JsonOpt = False) -> None:
     if bias_in.family != "bipolar":
         from .fetchain import print_fet_model
 
-        print_fet_model(bias, bias_in.model(), as_json)
+        print_fet_model(bias, bias_in.model(), as_json, bias_in)
         return
     m = bias_in.model()
     ro = None if np.isinf(m.ro) else m.ro
@@ -47,7 +47,7 @@ def model_cmd(bias_in: Inputs, as_json: JsonOpt = False) -> None:
         "gm": m.gm, "r_pi": m.r_pi, "ro": ro, "c_pi": m.c_pi, "c_mu": m.c_mu, "rb": m.rb,
         "re": m.re, "alpha": m.alpha, "beta": bias.beta, "vt": m.vt, "f_beta": m.f_beta, "ft": m.ft,
         "r_mu": None if np.isinf(m.r_mu) else m.r_mu, "rcx": m.rcx, "rex": m.rex,
-        "device": bias.device, "ic": ic, "vce": vce, "temp": bias.temp, "tref": bias_in.tref, "power": bias.power,
+        "l_b": m.l_b, "l_c": m.l_c, "l_e": m.l_e, "device": bias.device, "ic": ic, "vce": vce, "temp": bias.temp, "tref": bias_in.tref, "power": bias.power,
         "ft_used": m.ft, "datasheet": bias_in.datasheet,
     }
     if "ft" in bias_in.datasheet:
@@ -59,10 +59,14 @@ def model_cmd(bias_in: Inputs, as_json: JsonOpt = False) -> None:
     rows = [
         ["gm", format_si(m.gm, "S"), "IC / VT"],
         ["r_pi", format_si(m.r_pi, "Ω"), "beta / gm"],
-        ["ro", format_si(ro, "Ω") if ro else "open", "VA / IC" + ("  (VA from hoe at h_at_ic)" if h else "")],
-        ["C_pi", format_si(m.c_pi, "F"), "gm / (2 pi fT) - C_mu"],
-        ["C_mu", format_si(m.c_mu, "F"), "Cob moved to the bias VCB" if "c_mu" in bias_in.datasheet else "given"],
-        ["rb", format_si(m.rb, "Ω"), "from hie at h_at_ic, held" if h else "given"],
+        ["ro", format_si(ro, "Ω") if ro else "open", "VA / IC" + ("  (VA from hoe at h_at_ic)" if h else "" if ro
+                                                                   else "  (no VA given)")],
+        ["C_pi", format_si(m.c_pi, "F"), "gm / (2 pi fT) - C_mu" + (
+            "  (no fT given: 0)" if bias_in.get("ft") is None and "ft" not in bias_in.datasheet
+            else "")],
+        ["C_mu", format_si(m.c_mu, "F"), "Cob moved to the bias VCB" if "c_mu" in bias_in.datasheet
+         else given_text(bias_in, "cmu")],
+        ["rb", format_si(m.rb, "Ω"), "from hie at h_at_ic, held" if h else given_text(bias_in, "rb")],
         ["f_beta", format_si(m.f_beta, "Hz") if m.f_beta else "unbounded", "1 / (2 pi r_pi (C_pi + C_mu))"],
         ["fT", format_si(m.ft, "Hz") if m.ft else "unbounded", "gm / (2 pi (C_pi + C_mu))"
          + ("; transit-time law at IC" if "ft" in bias_in.datasheet else "")],
@@ -75,14 +79,25 @@ def model_cmd(bias_in: Inputs, as_json: JsonOpt = False) -> None:
         ["VT", format_si(m.vt, "V"), "k T / q"],
     ]
     if not np.isinf(m.r_mu):
-        rows.append(["r_mu", format_si(m.r_mu, "Ω"), "from hre at h_at_ic, moved as beta ro" if h else "given"])
+        rows.append(["r_mu", format_si(m.r_mu, "Ω"), "from hre at h_at_ic, moved as beta ro" if h
+                     else given_text(bias_in, "rmu")])
     if m.rcx or m.rex:
-        rows.append(["rcx / rex", f"{format_si(m.rcx, 'Ω')} / {format_si(m.rex, 'Ω')}", "given"])
+        rows.append(["rcx / rex", f"{format_si(m.rcx, 'Ω')} / {format_si(m.rex, 'Ω')}",
+                     " / ".join(given_text(bias_in, k) for k in ("rcx", "rex"))])
+    if m.l_b or m.l_c or m.l_e:
+        rows.append(["l_b / l_c / l_e", " / ".join(format_si(x, "H") for x in (m.l_b, m.l_c, m.l_e)),
+                     "lead inductances: " + " / ".join(given_text(bias_in, k) for k in ("l_b", "l_c", "l_e"))])
     title = (f"Small-signal model: {bias.device}, IC = {format_si(ic, 'A')}, "
              f"VCE = {format_si(vce, 'V')}, T = {bias.temp:.2f} K, P = {format_si(bias.power, 'W')}")
     caption = ("pnp: IC and VCE with the pnp sign (as 'devmodels bias' reports them); the small-signal "
                "model is the same as an npn's." if bias.device == "pnp" else None)
     print_table(title, ["element", "value", "relation"], rows, caption)
+
+
+def given_text(bias_in: Inputs, kid: str, text: str = "given") -> str:
+    """The source of a model value for the ``relation`` column: ``text`` where the bias file or an
+    option gave the key ``kid``, ``not given: 0`` where the value is the default (0)."""
+    return text if bias_in.get(kid) is not None else "not given: 0"
 
 
 @command("params")

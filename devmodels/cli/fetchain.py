@@ -27,10 +27,12 @@ def _none_if_inf(x):
     return None if x is None or not math.isfinite(x) else x
 
 
-def print_fet_model(bias, m, as_json: bool) -> None:
+def print_fet_model(bias, m, as_json: bool, bias_in=None) -> None:
     """The ``model`` command for a FET: JSON keys gm, gmb, ro, cgs, cgd, ft, vov (and more).
 
     ID and VDS carry the device's sign (negative for a p-channel device), as ``bias`` shows a pnp.
+    ``bias_in`` (the command's :class:`~devmodels.cli.inputs.Inputs`) tells given values from
+    defaults in the table's ``relation`` column.
     """
     from ..fetbias import JfetBias
     from ..units import format_si
@@ -39,7 +41,8 @@ def print_fet_model(bias, m, as_json: bool) -> None:
     sign = -1.0 if bias.device.startswith("p") else 1.0
     ro = _none_if_inf(m.ro)
     out = {"gm": m.gm, "gmb": None if jfet else m.gmb, "ro": ro, "cgs": m.cgs, "cgd": m.cgd, "ft": m.ft,
-           "vov": m.vov, "csb": m.csb, "cdb": m.cdb, "rg": m.rg, "gm_ro": _none_if_inf(m.intrinsic_gain),
+           "vov": m.vov, "csb": m.csb, "cdb": m.cdb, "rg": m.rg, "l_g": m.l_g, "l_d": m.l_d, "l_s": m.l_s,
+           "gm_ro": _none_if_inf(m.intrinsic_gain),
            "device": bias.device, "id": sign * bias.id + 0.0, "vds": sign * bias.vds + 0.0, "power": bias.id * bias.vds}
     if jfet:
         out.update(idss=bias.idss, vp=bias.vp, vgs=bias.vgs, gm0=2 * bias.idss / abs(bias.vp))
@@ -58,14 +61,27 @@ def print_fet_model(bias, m, as_json: bool) -> None:
         rows += [["kn", format_si(out["kn"], "A/V²"), "2 ID / Vov²" if bias.kn is None else "given"],
                  ["gmb", format_si(m.gmb, "S") if bias.gamma is not None else "0 S (no gamma given)",
                   "gamma gm / (2 sqrt(2phiF + VSB))"]]
-    rows += [["ro", format_si(ro, "Ω") if ro else "open", "1 / (lambda ID)"],
+    from .core import given_text
+
+    def source(kid: str) -> str:  # given, a default, or from the datasheet capacitances
+        if bias_in is None:
+            return "given"
+        if kid in ("cgs", "cgd", "cdb") and "capacitances" in bias_in.datasheet:
+            return "from Ciss, Crss, Coss"
+        return given_text(bias_in, kid)
+
+    rows += [["ro", format_si(ro, "Ω") if ro else "open", "1 / (lambda ID)" + ("" if ro else "  (no lambda given)")],
              ["gm ro", f"{m.intrinsic_gain:.4g}" if ro else "unbounded", "intrinsic gain"],
-             ["Cgs", format_si(m.cgs, "F"), "given"], ["Cgd", format_si(m.cgd, "F"), "given"],
+             ["Cgs", format_si(m.cgs, "F"), source("cgs")], ["Cgd", format_si(m.cgd, "F"), source("cgd")],
              ["fT", format_si(m.ft, "Hz") if m.ft else "unbounded", "gm / (2 pi (Cgs + Cgd))"]]
     if m.csb or m.cdb:
-        rows.append(["Csb / Cdb", f"{format_si(m.csb, 'F')} / {format_si(m.cdb, 'F')}", "given"])
+        rows.append(["Csb / Cdb", f"{format_si(m.csb, 'F')} / {format_si(m.cdb, 'F')}",
+                     f"{source('csb')} / {source('cdb')}"])
     if m.rg:
-        rows.append(["rg", format_si(m.rg, "Ω"), "given"])
+        rows.append(["rg", format_si(m.rg, "Ω"), source("rg")])
+    if m.l_g or m.l_d or m.l_s:
+        rows.append(["l_g / l_d / l_s", " / ".join(format_si(x, "H") for x in (m.l_g, m.l_d, m.l_s)),
+                     "lead inductances: " + " / ".join(source(k) for k in ("l_g", "l_d", "l_s"))])
     title = (f"Small-signal model: {bias.device}, ID = {format_si(sign * bias.id, 'A')}, "
              f"VDS = {format_si(sign * bias.vds, 'V')}, P = {format_si(bias.id * bias.vds, 'W')}")
     print_table(title, ["element", "value", "relation"], rows)
@@ -247,8 +263,10 @@ def connect_cmd(
                    "note": res.note, "points": twoport_dict(tp)["points"]})
         return
     print_twoport(tp, polar, title=f"{res.how} connection: {tp.kind.upper()} parameters")
-    state = {True: "holds", False: "VIOLATED", None: "not confirmed"}[res.port_condition]
-    stdout(f"Port condition {state}: {res.note}\n")
+    if res.port_condition is None:
+        stdout(f"Port condition not confirmed: {res.note}\n")
+    else:  # the note states the verdict itself ("...: the port condition holds" / "is violated")
+        stdout(f"Port condition: {res.note}\n")
 
 
 # --- formula ---------------------------------------------------------------------------------

@@ -18,7 +18,7 @@ from ..units import format_complex, format_si, parse_quantity, shown
 from .app import command
 from .inputs import MODEL_KEYS, Inputs, bias_options, check_config, parse_freqs, parse_z0
 from .options import ConfigOpt, FreqOpt, JsonOpt
-from .render import emit_json, print_table, zjson, zstr
+from .render import emit_json, jsonable, print_table, zjson, zstr
 
 #: Frequency of the analysis of a bias point without --freq, Hz (as ``gain``).
 DEFAULT_FREQ = 1e3
@@ -76,9 +76,16 @@ def _nonneg(text: str | None, name: str, unit: str, positive: bool = False) -> f
 def _stage_noise(bias_in: Inputs, config: str | None, freq: np.ndarray, flicker: float | None,
                  gamma_n: float | None):
     """The stage's noisy two-port and its configuration (the model's noise options applied)."""
-    import dataclasses
-
     from ..noise import stage_noise
+
+    stage = _noise_stage(bias_in, config, freq, flicker, gamma_n)
+    return stage_noise(stage, freq), stage.config
+
+
+def _noise_stage(bias_in: Inputs, config: str | None, freq: np.ndarray, flicker: float | None,
+                 gamma_n: float | None):
+    """The stage with the model's noise options applied (1/f corner, gamma_n), checked against ``freq``."""
+    import dataclasses
 
     if not bias_in.given():
         raise InputError("bias point: missing; give a bias file, bias options (--ic, --vce, --beta, ...) "
@@ -95,7 +102,7 @@ def _stage_noise(bias_in: Inputs, config: str | None, freq: np.ndarray, flicker:
         stage = dataclasses.replace(stage, model=dataclasses.replace(stage.model, **changes))
     if np.any(freq <= 0) and np.any(np.asarray(getattr(stage.model, "flicker_corner", 0.0)) > 0):
         raise InputError("freq: 1/f noise (--flicker-corner) has no value at 0 Hz; give frequencies above 0 Hz")
-    return stage_noise(stage, freq), stage.config
+    return stage
 
 
 def _touchstone_noise(path: Path, freq: np.ndarray | None):
@@ -133,8 +140,55 @@ _RsListOpt = Annotated[Optional[str], typer.Option(
                       "with its own NF curve, optimum current and plot line.",
     show_default=False, metavar="OHM,OHM,...", rich_help_panel="Low-noise design")]
 _NoisePlotOpt = Annotated[Optional[Path], typer.Option(
-    "--plot", help="With --ic-sweep: draw NF against IC, one curve per source resistance, into FILE.png or "
-                   "FILE.svg.", show_default=False, metavar="FILE", rich_help_panel="Low-noise design")]
+    "--plot", help="Draw into FILE.png or FILE.svg: the circles of constant noise figure on the Smith chart "
+                   "(at --circles, one colour per frequency), or with --ic-sweep NF against IC, one curve per "
+                   "source resistance.", show_default=False, metavar="FILE")]
+_CirclesOpt = Annotated[Optional[str], typer.Option(
+    "--circles", help="Noise-figure levels of the noise circles, dB, comma-separated (e.g. 1,1.5,2): each "
+                      "point of the JSON gets their centre and radius in the source's reflection plane at "
+                      "--z0, and --plot draws them (default with --plot: NFmin + 0.5, 1, 2 and 3 dB).",
+    show_default=False, metavar="DB,DB,...")]
+_NoiseOutOpt = Annotated[Optional[Path], typer.Option(
+    "--out", "-o", help="Write the S parameters (at --z0) with their noise-parameter block (NFmin, Gamma_opt, "
+                        "Rn) at every --freq to FILE: .s2p (Touchstone 1.1) or .ts (Touchstone 2.0).",
+    show_default=False, metavar="FILE")]
+#: Most noise-circle levels, and the default levels above the least NFmin, dB.
+MAX_CIRCLES, DEFAULT_CIRCLES_DB = 8, (0.5, 1.0, 2.0, 3.0)
+
+
+def _circle_levels(text: str) -> list[float]:
+    """``1,1.5,2`` (dB, an optional ``dB`` after each) -> the levels in dB, each in (0, 100]."""
+    levels = []
+    for part in text.split(","):
+        t = part.strip()
+        if t[-2:].lower() == "db":
+            t = t[:-2].strip()
+        v = parse_quantity(t, "", "circles")
+        if not (math.isfinite(v) and 0 < v <= 100):
+            raise InputError(f"circles: expected noise figures above 0 dB and at most 100 dB, got {shown(part)}")
+        levels.append(v)
+    if len(levels) > MAX_CIRCLES:
+        raise InputError(f"circles: at most {MAX_CIRCLES} levels, got {len(levels)}")
+    return list(dict.fromkeys(levels))
+
+
+def _circles(res, levels: list[float]) -> dict:
+    """Centre and radius (F,) of each level's circle (:func:`devmodels.noise.noise_circle`)."""
+    from ..noise import noise_circle
+
+    return {lv: noise_circle(res.fmin, res.rn, res.gamma_opt, 10 ** (lv / 10), res.z0) for lv in levels}
+
+
+def _check_noise_out(out: Path, f) -> None:
+    from ..fileio import check_destination
+
+    ext = out.suffix.lower()
+    if ext not in (".s2p", ".ts"):
+        raise InputError(f"out: a noise-parameter block is written in Touchstone: expected a file name ending "
+                         f"in .s2p (1.1) or .ts (2.0), got {shown(str(out))}")
+    if f is not None and f.size > 1 and not np.all(np.diff(f) > 0):
+        raise InputError("freq: a Touchstone file lists increasing frequencies; give --freq in increasing order")
+    check_destination(out, option="out")
 #: Default and largest number of points of --ic-sweep.
 IC_SWEEP_POINTS, IC_SWEEP_MAX = 41, 10_001
 
@@ -182,7 +236,7 @@ def _low_noise_design(bias_in: Inputs, config, rs: str, rs_list: str | None, swe
         raise InputError(f"config: --ic-sweep designs the CE stage, got {shown(config)}")
     if bias_in.has_network():
         raise InputError("ic-sweep: the bias network sets IC; remove the [network] table to sweep IC")
-    for key in ("rdeg", "rfb", "rmu", "rcx", "rex", "hfe_table"):
+    for key in ("rdeg", "rfb", "rmu", "rcx", "rex", "hfe_table", "l_b", "l_c", "l_e"):
         if bias_in.get(key) not in (None, 0, 0.0):
             raise InputError(f"{key}: not used by --ic-sweep (the bare CE transistor with rb, va, ft, cmu); "
                              "remove it")
@@ -245,13 +299,14 @@ def _noise_keys(k) -> bool:
 
 
 @command("noise")
-@bias_options(_noise_keys)
+@bias_options(_noise_keys, bare=True)
 def noise_cmd(bias_in: Inputs, config: ConfigOpt = None, rs: _NoiseRsOpt = DEFAULT_RS, freq: FreqOpt = None,
               z0: Annotated[str, typer.Option(
                   "--z0", help="Reference resistance of gamma_opt, ohm (one value).", metavar="OHM")] = "50",
               touchstone: _NoiseTouchstoneOpt = None, flicker_corner: _FlickerOpt = None,
               gamma_n: _GammaNOpt = None, ic_sweep: _IcSweepOpt = None, rs_list: _RsListOpt = None,
-              plot: _NoisePlotOpt = None, as_json: JsonOpt = False) -> None:
+              plot: _NoisePlotOpt = None, circles: _CirclesOpt = None, out: _NoiseOutOpt = None,
+              as_json: JsonOpt = False) -> None:
     """Noise figure at --rs and the noise parameters (NFmin, Rn, Yopt, Zopt, gamma_opt) of a stage.
 
     The source is at T0 = 290 K (the standard temperature of the noise-factor definition).
@@ -260,16 +315,22 @@ def noise_cmd(bias_in: Inputs, config: ConfigOpt = None, rs: _NoiseRsOpt = DEFAU
 
     Without --freq a bias point is analysed at 1 kHz.
 
+    With --circles or --plot: the circles of constant noise figure on the Smith chart.
+
+    With --out: a Touchstone file of the S parameters with their noise-parameter block.
+
     With --ic-sweep (bipolar): the collector current of least NF at --rs, and the best source resistance at
     each current.
     """
     from ..noise import T0, noise_parameters
 
     if ic_sweep is None:
-        for name, v in (("rs-list", rs_list), ("plot", plot)):
-            if v is not None:
-                raise InputError(f"{name}: used with --ic-sweep only")
+        if rs_list is not None:
+            raise InputError("rs-list: used with --ic-sweep only")
     else:
+        for name, v in (("circles", circles), ("out", out)):
+            if v is not None:
+                raise InputError(f"{name}: not used with --ic-sweep")
         if touchstone is not None:
             raise InputError("ic-sweep: a design help for a bias point; not used with --touchstone")
         if gamma_n is not None:
@@ -284,6 +345,13 @@ def noise_cmd(bias_in: Inputs, config: ConfigOpt = None, rs: _NoiseRsOpt = DEFAU
     fc = _nonneg(flicker_corner, "flicker-corner", "Hz")
     gn = _nonneg(gamma_n, "gamma-n", "", positive=True)
     f = parse_freqs(freq)
+    levels = _circle_levels(circles) if circles is not None else None
+    if plot is not None:
+        from ..plotting import _check_path
+
+        _check_path(plot)
+    if out is not None:
+        _check_noise_out(out, f)
     if touchstone is not None:
         if bias_in.given():
             raise InputError("touchstone: give either a Touchstone file (--touchstone) or a bias point, not both")
@@ -302,10 +370,53 @@ def noise_cmd(bias_in: Inputs, config: ConfigOpt = None, rs: _NoiseRsOpt = DEFAU
         label = f"{cfg.upper()} stage"
     res = noise_parameters(ntp, zs=zs, z0=zref)
     pts = res.as_points()
+    if plot is not None and levels is None:
+        least = float(np.min(res.nfmin_db))
+        levels = [round(least + d, 2) for d in DEFAULT_CIRCLES_DB]
+    drawn = None
+    if levels is not None:
+        drawn = _circles(res, levels)
+        for k, p in enumerate(pts):  # NaN (no circle: the level is below NFmin) -> null
+            p["circles"] = [{"nf_db": lv, "centre": jsonable(complex(c[k])), "radius": jsonable(float(r[k]))}
+                            for lv, (c, r) in drawn.items()]
+    written = None
+    if out is not None:
+        from ..noisefile import write_touchstone_noise
+
+        version = "2.0" if out.suffix.lower() == ".ts" else "1.1"
+        written = write_touchstone_noise(ntp.two_port(zref), res, out, version,
+                                         comment=f"devmodels noise: {label}, S at z0 = {zref:g} ohm, noise "
+                                                 f"parameters (source at T0 = 290 K)", option="out")
+    if plot is not None:
+        from ..plotting import plot_noise_circles
+
+        gs = (zs - zref) / (zs + zref)
+        plot_noise_circles(plot, res.freq, res.gamma_opt, drawn, gs, z0=zref,
+                           title=f"Noise figure circles of the {label}, z0 = {zref:g} Ω; x: Rs = {zstr(zs)}")
     if as_json:
         emit_json({"config": cfg, "rs": zjson(zs), "z0": zref, "t0": T0, "points": pts})
-        return
-    _print_noise(pts, label, zs, zref)
+    else:
+        _print_noise(pts, label, zs, zref)
+        if drawn is not None:
+            _print_circles(pts, zref)
+    from .render import note
+
+    if written is not None:
+        note(f"wrote Touchstone {version} with noise parameters to {out}")
+    if plot is not None:
+        note(f"plot written to {plot}")
+
+
+def _print_circles(pts: list[dict], z0: float) -> None:
+    rows = []
+    for p in pts:
+        for c in p["circles"]:
+            rows.append([format_si(p["freq"], "Hz") if p["freq"] is not None else "(any)", f"{c['nf_db']:g} dB",
+                         _cx(c["centre"], "", "below NFmin"),
+                         f"{c['radius']:.4g}" if c["radius"] is not None else "—"])
+    print_table(f"Noise circles (source reflection plane, z0 = {z0:g} Ω)", ["freq", "NF", "centre", "radius"],
+                rows, caption="N = (F - Fmin) |1 + Γopt|^2 Z0 / (4 Rn); centre Γopt/(1 + N), "
+                              "radius sqrt(N (N + 1 - |Γopt|^2))/(1 + N).")
 
 
 def _num(v, unit: str) -> str:

@@ -22,7 +22,7 @@ from ..units import format_complex, format_si
 __all__ = ["ClosedPipe", "stdout", "warn", "note_later", "flush_warnings", "drop_warnings", "jsonable", "emit_json", "print_table",
            "note",
            "gain_text", "imp_text", "db_text", "stab_text", "msg_text", "zstr", "zjson", "z0json",
-           "point_json", "print_gain", "print_twoport", "ELEMENT_UNITS"]
+           "point_json", "print_gain", "print_twoport", "ELEMENT_UNITS", "power_text", "mu_text"]
 
 _pending: list[tuple[str, str]] = []
 
@@ -195,15 +195,63 @@ def z0json(z0) -> float | list:
 
 
 # --- terminated analysis ------------------------------------------------------------------------
+#: Notes of a terminated-analysis point (JSON ``notes``: result key -> why it is null or what it is).
+NOTE_IDEAL_SOURCE = ("ideal source (Re Zs = 0): its available power is unlimited, so this gain is 0 "
+                     "and has no dB value")
+NOTE_LOSSLESS_LOAD = ("open or lossless load (Re YL = 0): it takes no power, so this gain is 0 and has "
+                      "no dB value")
+NOTE_K_UNILATERAL = "S12 = 0: K is unbounded"
+NOTE_MAG_UNILATERAL = "S12 = 0: the MAG is the unilateral maximum |S21|^2 / ((1 - |S11|^2)(1 - |S22|^2))"
+NOTE_MSG_UNILATERAL = "S12 = 0 and a port without positive loss: the gain is unbounded"
+
+
 def point_json(res, i: int) -> dict:
-    """One terminated-analysis point (``gain``, ``compare``, ``cascade``): interface keys first."""
+    """One terminated-analysis point (``gain``, ``compare``, ``cascade``): interface keys first.
+
+    Besides the results: ``msg_is_mag``, ``unconditionally_stable`` (mu > 1 beyond the
+    library's stated tolerance), ``stability`` (``unconditional``, ``marginal``: |mu - 1| within
+    the tolerance, or ``conditional``) and ``notes`` (result key -> plain words, for results
+    that are null for a known reason and for the unilateral MAG).
+    """
     p = res.point(i)
+    v = res.verdicts(i)
     out = {k: p[k] for k in ("freq", "av", "avs", "ai", "zin", "zout", "gt_db", "k", "mu", "msg_db")}
     for k in ("gp_db", "ga_db", "delta", "mu_prime", "u_db"):
         out[k] = p[k]
-    out["msg_is_mag"] = bool(p["k"] > 1) if math.isfinite(p["k"]) else False
-    out["unconditionally_stable"] = bool(res.unconditional[i])
+    out["msg_is_mag"] = v["msg_is_mag"]
+    out["unconditionally_stable"] = v["unconditional"]
+    out["stability"] = v["stability"]
+    notes = {}
+    if v["ideal_source"]:
+        notes.update(gt_db=NOTE_IDEAL_SOURCE, ga_db=NOTE_IDEAL_SOURCE)
+    if v["lossless_load"]:
+        notes.setdefault("gt_db", NOTE_LOSSLESS_LOAD)
+        notes["gp_db"] = NOTE_LOSSLESS_LOAD
+    if v["unilateral"]:
+        notes["k"] = NOTE_K_UNILATERAL
+        notes["msg_db"] = NOTE_MAG_UNILATERAL if v["msg_is_mag"] else NOTE_MSG_UNILATERAL
+    out["notes"] = notes
     return out
+
+
+def power_text(p: dict, key: str, zs: complex, zl: complex) -> str:
+    """A power gain (``gt_db``, ``gp_db``, ``ga_db``) of a point of :func:`point_json` for tables:
+    ``n/a (Rs = 0)`` for an ideal source, ``open`` or ``n/a (Re ZL = 0)`` for a load that takes
+    no power (the gain is 0), ``unbounded`` otherwise where it has no value."""
+    why = p.get("notes", {}).get(key)
+    if why == NOTE_IDEAL_SOURCE:
+        missing = "n/a (Rs = 0)" if zs.imag == 0 else "n/a (Re Zs = 0)"
+    elif why == NOTE_LOSSLESS_LOAD:
+        missing = "open" if math.isinf(zl.real) else "n/a (Re ZL = 0)"
+    else:
+        missing = "unbounded"
+    return db_text(p[key], missing)
+
+
+def mu_text(p: dict) -> str:
+    """mu of a point of :func:`point_json`, marked where it is on the stability boundary."""
+    text = stab_text(p["mu"], "undefined (0/0)")
+    return text + " (marginal)" if p["stability"] == "marginal" else text
 
 
 def _freq_text(f) -> str:
@@ -218,21 +266,32 @@ def print_gain(pts: list[dict], zs: complex, zl: complex, z0, label: str, polar:
     print_table(f"{label} between Rs = {zstr(zs)} and RL = {zstr(zl)}",
                 ["freq", "av = V2/V1", "avs = V2/Vs", "ai = -I2/I1", "zin", "zout"], rows)
     open_load = math.isinf(zl.real)
-    power_missing = "open" if open_load else "unbounded"
-    rows = [[f, db_text(p["gt_db"], power_missing), db_text(p["gp_db"], power_missing),
-             db_text(p["ga_db"]), stab_text(p["k"]), stab_text(p["delta"]), stab_text(p["mu"]),
+    rows = [[f, power_text(p, "gt_db", zs, zl), power_text(p, "gp_db", zs, zl), power_text(p, "ga_db", zs, zl),
+             stab_text(p["k"]), stab_text(p["delta"]), mu_text(p),
              stab_text(p["mu_prime"]), msg_text(p), db_text(p["u_db"])]
             for f, p in zip(fcol, pts)]
     ref = f"{z0[0]:g} Ω" if z0[0] == z0[1] else f"{z0[0]:g} / {z0[1]:g} Ω"
-    unstable = [p for p in pts if not p["unconditionally_stable"]]
-    cap = (f"mu, mu' from S at z0 = {ref}. mu > 1: unconditionally stable. "
-           "MAG where K > 1, MSG otherwise.")
+    unstable = [p for p in pts if p["stability"] == "conditional"]
+    marginal = [p for p in pts if p["stability"] == "marginal"]
+    from ..analysis import STABILITY_TOL
+
+    cap = (f"mu, mu' from S at z0 = {ref}. mu > 1: unconditionally stable "
+           f"(|mu - 1| ≤ {STABILITY_TOL:g}: marginal, on the boundary). MAG where K > 1, MSG otherwise.")
     if open_load:
         cap += " GT and GP: the open load takes no power (shown as open)."
-    if any(p["msg_is_mag"] and not p["unconditionally_stable"] for p in pts):
+    elif any(p.get("notes", {}).get("gp_db") == NOTE_LOSSLESS_LOAD for p in pts):
+        cap += " GT and GP: a load without resistance takes no power, so they are 0 (n/a in dB)."
+    if any(p.get("notes", {}).get("ga_db") == NOTE_IDEAL_SOURCE for p in pts):
+        cap += (" GT and GA: an ideal source (Rs = 0) has unlimited available power, so they are 0 "
+                "(n/a in dB).")
+    if any(p.get("notes", {}).get("msg_db") == NOTE_MAG_UNILATERAL for p in pts):
+        cap += " S12 = 0: K is unbounded and the MAG is the unilateral maximum |S21|²/((1-|S11|²)(1-|S22|²))."
+    if any(p["msg_is_mag"] and p["stability"] == "conditional" for p in pts):
         cap += " K > 1 with |Δ| ≥ 1: the MAG shown needs terminations outside the Smith chart."
     if unstable:
         cap += f" {len(unstable)} of {len(pts)} points are only conditionally stable."
+    if marginal:
+        cap += f" {len(marginal)} of {len(pts)} points are marginal (on the stability boundary)."
     print_table("Power gain and stability", ["freq", "GT", "GP", "GA", "K", "|Δ|", "mu", "mu'", "MAG/MSG", "U"],
                 rows, caption=cap)
 

@@ -19,6 +19,7 @@ from .inputs import (Inputs, bias_options, check_config, check_kind, parse_freq,
                      terminations, two_port_input)
 from .options import (ConfigOpt, FreqOpt, JsonOpt, OneFreqOpt, ParamsOpt, PlotOpt, PolarOpt, RlOpt, RsOpt,
                       TouchstoneOpt, Z0Opt)
+from .noisecmd import _FlickerOpt, _GammaNOpt, _noise_stage, _nonneg, _source
 from .render import (stdout, db_text, emit_json, gain_text, imp_text, jsonable, msg_text, note, point_json, print_gain,
                      print_table, print_twoport, stab_text, z0json, zjson, zstr)
 
@@ -37,9 +38,9 @@ def _check_plot(plot: Path | None) -> None:
     if plot is not None:
         from ..fileio import check_destination
 
+        check_destination(plot, option="plot")  # first: a folder is named as such
         if plot.suffix.lower() not in (".png", ".svg"):
             raise InputError(f"plot: expected a file name ending in .png or .svg, got {shown(str(plot))}")
-        check_destination(plot, option="plot")
 
 
 @command("gain")
@@ -66,14 +67,59 @@ def gain_cmd(bias_in: Inputs, config: ConfigOpt = None, rs: RsOpt = DEFAULT_RS, 
         plot_report(plot, gains={config: res}, s_ports={config: tp.to("s", z0v)} if tp.freq is not None else None,
                     title=f"{config.upper()} stage, Rs = {zstr(zs)}, RL = {zstr(zl)}")
     pts = [point_json(res, i) for i in range(len(res))]
+    noisy = touchstone is not None and _file_noise(touchstone, tp, zs, pts)
     if as_json:
-        emit_json({"config": config, "rs": zjson(zs), "rl": zjson(zl), "z0": z0json(z0v), "points": pts})
+        obj = {"config": config, "rs": zjson(zs), "rl": zjson(zl), "z0": z0json(z0v), "points": pts}
+        if noisy:
+            from ..noise import T0
+
+            obj["t0"] = T0
+        emit_json(obj)
     else:
         label = f"{config.upper()} stage" if given is None and touchstone is None else (
             f"Two-port {touchstone.name}" if touchstone is not None else "Given two-port")
         print_gain(pts, zs, zl, z0v, label, polar=polar)
+        if noisy:
+            rows = [[format_si(p["freq"], "Hz"), db_text(p["nf_db"], "—"), db_text(p["nfmin_db"], "—")]
+                    for p in pts]
+            print_table(f"Noise (the file's data), Rs = {zstr(zs)}", ["freq", "NF at Rs", "NFmin"],
+                        rows, caption="source at T0 = 290 K; —: not a noise frequency")
     if plot is not None:
         note(f"plot written to {plot}")
+
+
+def _file_noise(path: Path, tp, zs: complex, pts: list[dict]) -> bool:
+    """Add ``nf_db`` and ``nfmin_db`` to the points when the Touchstone file has noise data.
+
+    The numbers are :func:`devmodels.noisefile.noise_figures_at`; a point that is not a noise
+    frequency, or a source without a real part > 0, gets None.  Returns whether the file has
+    noise data.
+    """
+    from ..noisefile import noise_figures_at
+    from ..touchstone import read_touchstone_file
+    from .render import warn
+
+    data = read_touchstone_file(path)
+    if data.noise is None:
+        return False
+    for p in pts:
+        p.update(nf_db=None, nfmin_db=None)
+    if tp.freq is None or not (math.isfinite(zs.real) and zs.real > 0):
+        warn("noise: the file's noise parameters give no NF here (the source needs a real part > 0 ohm)")
+        return True
+    try:  # the gains stand without the noise: a noise block that cannot be used is a warning
+        nf, nfmin = noise_figures_at(data, tp.freq, zs)
+    except InputError as exc:
+        warn(f"noise: not computed ({exc})")
+        return True
+    for p, a, b in zip(pts, nf, nfmin):
+        p.update(nf_db=float(a) if math.isfinite(a) else None, nfmin_db=float(b) if math.isfinite(b) else None)
+    if not np.any(np.isfinite(nf)):
+        fn = data.noise.freq
+        warn(f"noise: no frequency of the analysis is a noise frequency of {path.name} "
+             f"({format_si(float(fn[0]), 'Hz')} to {format_si(float(fn[-1]), 'Hz')}, {fn.size} points); "
+             "noise parameters are not interpolated")
+    return True
 
 
 # --- compare -----------------------------------------------------------------------------
@@ -123,11 +169,12 @@ def compare_cmd(bias_in: Inputs, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT_RL,
     if as_json:
         emit_json({**points, "bandwidth": bws, "best": best, "rs": zjson(zs), "rl": zjson(zl), "z0": z0json(z0v)})
         return
-    power_missing = "open" if np.isinf(zl.real) else "unbounded"
+    from .render import mu_text, power_text
+
     spec = [("av = V2/V1", lambda p: gain_text(p["av"], polar)), ("avs = V2/Vs", lambda p: gain_text(p["avs"], polar)),
             ("ai = -I2/I1", lambda p: gain_text(p["ai"], polar)), ("zin", lambda p: imp_text(p["zin"], polar)),
-            ("zout", lambda p: imp_text(p["zout"], polar)), ("GT", lambda p: db_text(p["gt_db"], power_missing)),
-            ("K", lambda p: stab_text(p["k"])), ("mu", lambda p: stab_text(p["mu"])),
+            ("zout", lambda p: imp_text(p["zout"], polar)), ("GT", lambda p: power_text(p, "gt_db", zs, zl)),
+            ("K", lambda p: stab_text(p["k"])), ("mu", mu_text),
             ("MAG/MSG", msg_text), ("U", lambda p: db_text(p["u_db"])),
             ("NF at Rs", lambda p: db_text(p["nf_db"], "undefined")), ("NFmin", lambda p: db_text(p["nfmin_db"]))]
     rows = [[name] + [fn(points[c]) for c in configs] for name, fn in spec]
@@ -179,6 +226,7 @@ def _sweep_freqs(start: str, stop: str, points: str, limit: int = MAX_POINTS) ->
 def _check_out(out: Path, kind: str) -> None:
     from ..fileio import check_destination
 
+    check_destination(out, option="out")  # first: a folder is named as such, not as a file type
     ext = out.suffix.lower()
     if (ext == ".ts" or re.fullmatch(r"\.[syzhg]\d+p", ext)) and kind == "abcd":
         raise InputError("out: Touchstone holds S, Y, Z, H or G parameters, not abcd; "
@@ -186,7 +234,6 @@ def _check_out(out: Path, kind: str) -> None:
     if ext not in (".csv", ".json", ".ts") and not re.fullmatch(r"\.[syzhg]\d+p", ext):
         raise InputError(f"out: unknown file type {shown(ext or '(none)')}; expected .s2p (Touchstone 1.1), "
                          ".ts (Touchstone 2.0), .csv or .json")
-    check_destination(out, option="out")
 
 
 @command("sweep")
@@ -198,7 +245,8 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
               stop: Annotated[str, typer.Option("--stop", help="Last frequency, Hz.", metavar="HZ")] = "10GHz",
               points: Annotated[str, typer.Option(
                   "--points", "-n", help=f"Number of points, log spaced (e.g. 201, 1e6); at most {MAX_POINTS:.3g} "
-                                         f"with --json or --plot, {MAX_STREAMED_POINTS:.3g} otherwise (the "
+                                         f"with --json, --plot or --noise into Touchstone, "
+                                         f"{MAX_STREAMED_POINTS:.3g} otherwise (the "
                                          "sweep is then written block by block; limits from this computer's "
                                          "memory).", metavar="COUNT")] = "101",
               z0: Z0Opt = "50", rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT_RL,
@@ -214,12 +262,30 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
               ts_version: Annotated[Optional[str], typer.Option(
                   "--touchstone-version", help="1.1 or 2.0 (default: 1.1 for .sNp unless the ports have "
                                                "different z0).", show_default=False, metavar="1.1|2.0")] = None,
-              plot: PlotOpt = None, as_json: JsonOpt = False) -> None:
+              plot: PlotOpt = None,
+              noise: Annotated[bool, typer.Option(
+                  "--noise", help="Also the noise figure at --rs (the source at T0 = 290 K) and NFmin at every "
+                                  "point: in the table, in JSON (keys nf_db, nfmin_db of each point), as columns "
+                                  "of a .csv or .json --out, as the noise-parameter block of a Touchstone --out "
+                                  "(S parameters), and as a panel of --plot. Off by default: it adds a noise "
+                                  "analysis of every point.",
+                  rich_help_panel="Noise")] = False,
+              flicker_corner: _FlickerOpt = None, gamma_n: _GammaNOpt = None,
+              as_json: JsonOpt = False) -> None:
     """Two-port parameters over a log-spaced sweep, with fT, f_beta, fmax and the bandwidth."""
     from ..analysis import terminate
     from ..merit import frequency_figures
-    from ..sweeping import sweep_stream, sweep_two_port
+    from ..noise import T0
+    from ..sweeping import NoiseBlocks, noise_columns, sweep_noise, sweep_stream, sweep_two_port
 
+    fc = gn = None
+    if noise:
+        fc = _nonneg(flicker_corner, "flicker-corner", "Hz")
+        gn = _nonneg(gamma_n, "gamma-n", "", positive=True)
+    else:
+        for name, v in (("flicker-corner", flicker_corner), ("gamma-n", gamma_n)):
+            if v is not None:
+                raise InputError(f"{name}: a noise option, used with --noise only")
     config = check_config(config) if config is not None else None
     kind = check_kind(kind)
     if ts_version is not None and ts_version not in ("1.1", "2.0", "1", "2"):
@@ -229,20 +295,36 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
         from ..export import number_format
 
         fmt = number_format(fmt.strip().lower()).lower()
-    f = _sweep_freqs(start, stop, points, MAX_POINTS if (plot is not None or as_json) else MAX_STREAMED_POINTS)
+    ts_out = out is not None and out.suffix.lower() not in (".csv", ".json")
+    whole = plot is not None or as_json or (noise and ts_out)  # the noise block is written whole
+    f = _sweep_freqs(start, stop, points, MAX_POINTS if whole else MAX_STREAMED_POINTS)
     zs, zl = terminations(rs, rl)
     z0v = parse_z0(z0)
+    if noise:
+        _source(rs)  # a source with real part > 0 (the noise factor needs the source's own noise)
     if out is not None:
         _check_out(out, kind)
+        if noise and ts_out and kind != "s":
+            raise InputError("out: a Touchstone noise block goes with S parameters; use --kind s, or write "
+                             ".csv or .json")
     _check_plot(plot)
     if not bias_in.given():
         raise InputError("bias point: missing; give a bias file or bias options (--ic, --vce, --beta, ...)")
-    stage = bias_in.stage(config)
+    if noise:
+        if fc is None:  # a bias file may hold them too (when the schema knows the keys)
+            fc = bias_in.get("flicker_corner")
+        if gn is None:
+            gn = bias_in.get("gamma_n")
+        stage = _noise_stage(bias_in, config, f, fc, gn)
+    else:
+        stage = bias_in.stage(config)
     config = stage.config
     progress = (not as_json) and f.size >= PROGRESS_POINTS and sys.stderr.isatty()
     # Without --plot or --json: the parameters are computed block by block as --out is written
     # (devmodels.sweeping.sweep_stream), the table's sample on its own; the sweep is never held whole.
-    stream = plot is None and not as_json
+    # The noise likewise (sweeping.NoiseBlocks), except for a Touchstone noise block (written whole).
+    stream = not whole
+    nres = None  # the noise over the whole sweep (NoiseResult), when it is held
     if stream:
         y = None
         tp = sweep_stream(stage, f, kind, z0v)
@@ -253,10 +335,18 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
         with Progress(console=Console(stderr=True), transient=True) as bar:
             task = bar.add_task("computing", total=f.size)
             y = sweep_two_port(stage, f, z0v, lambda done, total: bar.update(task, completed=done))
+            if noise:
+                task_n = bar.add_task("noise", total=f.size)
+                nres = sweep_noise(stage, f, zs, z0v[0], lambda done, total: bar.update(task_n, completed=done))
     else:
         y = sweep_two_port(stage, f, z0v)
+        if noise:
+            nres = sweep_noise(stage, f, zs, z0v[0])
     if not stream:
         tp = y.to(kind, z0v)
+    columns = None
+    if noise:
+        columns = noise_columns(nres if nres is not None else NoiseBlocks(stage, f, zs))
     figs = frequency_figures(stage, float(f[0]), float(f[-1]), zs, zl) if f.size > 1 and f[-1] > f[0] else None
     fig_json = None if figs is None else figs.as_dict()
     if figs is not None:
@@ -272,14 +362,27 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
                              f"{format_si(float(f[0]), 'Hz')} to {format_si(float(f[-1]), 'Hz')}"]
                             + _record_lines(record))
 
+        extra_json = {"figures": jsonable(fig_json), "stage": jsonable(record)}
+        if noise:
+            extra_json.update(rs=zjson(zs), t0=T0)
+
         def write():
             if out.suffix.lower() == ".csv":  # write_by_extension does not hand the comment to CSV
                 from ..export import write_csv
 
-                return write_csv(tp, out, fmt if fmt is not None else polar, option="out", comment=comment), "CSV"
+                return write_csv(tp, out, fmt if fmt is not None else polar, option="out", comment=comment,
+                                 columns=columns), "CSV"
+            if noise and ts_out:
+                from ..noisefile import write_touchstone_noise
+
+                ext = out.suffix.lower()
+                version = ts_version or ("2.0" if ext == ".ts" or z0v[0] != z0v[1] else "1.1")
+                path = write_touchstone_noise(tp, nres, out, version, fmt if fmt is not None else polar,
+                                              comment + f"\nnoise parameters of the stage (NFmin, Gamma_opt, Rn)",
+                                              option="out")
+                return path, f"Touchstone {version} with noise parameters"
             return write_by_extension(tp, out, polar=fmt if fmt is not None else polar, version=ts_version,
-                                      comment=comment, extra_json={"figures": jsonable(fig_json),
-                                                                   "stage": jsonable(record)}, option="out")
+                                      comment=comment, extra_json=extra_json, option="out", columns=columns)
 
         if progress and stream:
             from rich.console import Console
@@ -303,13 +406,16 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
         from ..plotting import plot_report
 
         plot_report(plot, gains={config: terminate(y, zs, zl, z0v)}, s_ports={config: y.to("s", z0v)},
-                    figures=figs, title=f"{config.upper()} stage, Rs = {zstr(zs)}, RL = {zstr(zl)}")
+                    figures=figs, title=f"{config.upper()} stage, Rs = {zstr(zs)}, RL = {zstr(zl)}",
+                    noise={config: nres} if noise else None)
     if as_json:
         from ..export import twoport_dict
 
-        obj = twoport_dict(tp)
+        obj = twoport_dict(tp, columns)
         obj["figures"] = fig_json
         obj["rs"], obj["rl"] = zjson(zs), zjson(zl)
+        if noise:
+            obj["t0"] = T0
         emit_json(obj)
     else:
         shown_tp = tp
@@ -324,6 +430,19 @@ def sweep_cmd(bias_in: Inputs, config: ConfigOpt = None,
         print_twoport(shown_tp, polar)
         if len(shown_tp) < len(tp):
             stdout(f"(showing {len(shown_tp)} of {len(tp)} points; --out FILE or --json for all)\n")
+        if noise:
+            if nres is not None:
+                nf_rows = np.column_stack([nres.nf_db, nres.nfmin_db])
+                nf_rows = nf_rows[idx] if len(shown_tp) < len(tp) else nf_rows
+            else:
+                from ..noise import noise_parameters, stage_noise
+
+                r = noise_parameters(stage_noise(stage, shown_tp.freq), zs=zs)
+                nf_rows = np.column_stack([r.nf_db, r.nfmin_db])
+            print_table(f"Noise, Rs = {zstr(zs)}", ["freq", "NF at Rs", "NFmin"],
+                        [[format_si(float(fq), "Hz"), db_text(a, "undefined"), db_text(b)]
+                         for fq, (a, b) in zip(shown_tp.freq, nf_rows)],
+                        caption="source at T0 = 290 K")
         if figs is not None:
             _print_figures(figs, zs, zl, stage)
     if written is not None:
