@@ -798,7 +798,12 @@ def ce_noise_design(ic, beta, rs, *, temp=T0, rb=0.0, freq=1e3, va=None, ft=None
     v = hybrid_pi_values(ic, beta, temp, va=va, ft=ft, cmu=cmu)
     c_pi = np.asarray(v["c_pi"])
     if np.any(c_pi < 0):
-        raise InputError(f"ft: {ft:g} Hz is too high for cmu = {cmu:g} F at some collector current of the grid")
+        # C_pi = gm/(2 pi fT) - C_mu >= 0 needs IC >= 2 pi fT C_mu VT (gm = IC/VT)
+        low = float(np.max(ic[c_pi < 0]))
+        need = float(2 * math.pi * ft * cmu * np.max(np.atleast_1d(v["vt"])))
+        raise InputError(f"ft: {ft:g} Hz with cmu = {cmu:g} F needs IC >= {need:.3g} A (C_pi = gm/(2 pi fT) - C_mu "
+                         f"would be negative up to IC = {low:.3g} A of the grid); start the sweep above "
+                         f"{need:.3g} A (a fixed fT does not hold at low currents)")
     model = HybridPi(gm=v["gm"], r_pi=v["r_pi"],
                      ro=v["ro"] if va is not None else math.inf,
                      c_pi=c_pi if ft is not None else 0.0, c_mu=cmu, rb=rb, vt=v["vt"],

@@ -435,3 +435,15 @@ def test_bare_is_the_transistor_at_the_solved_point(run_json):
         _same(bare["points"][0][k], want[k])
     # the network's resistors are noisy: the built stage is noisier than the transistor alone
     assert built["points"][0]["nf_db"] > bare["points"][0]["nf_db"] + 0.5
+
+
+def test_ic_sweep_names_the_lowest_current_a_fixed_ft_allows(run, run_json):
+    """C_pi = gm/(2 pi fT) - C_mu >= 0 needs IC >= 2 pi fT C_mu VT (the hybrid-pi relation, from
+    memory): the error names that current, and a sweep starting just above it runs."""
+    code, out, err = run("noise", str(AUDIO), "--ic-sweep", "10uA:10mA", "--rs", "2k")
+    assert code == 2 and err.count("\n") == 1 and err.startswith("devmodels: error: ft:")
+    need = float(err.split("needs IC >= ")[1].split(" A")[0])
+    d = run_json("model", str(AUDIO))
+    assert need == pytest.approx(2 * math.pi * d["ft"] * d["c_mu"] * d["vt"], rel=1e-2)
+    ok = run_json("noise", str(AUDIO), "--ic-sweep", f"{need * 1.01:.6g}:10mA", "--rs", "2k")
+    assert ok["points"][0]["ic"] >= need
