@@ -357,3 +357,20 @@ def test_model_shows_lead_inductances(run_json, run):
     assert code == 0 and "l_b / l_c / l_e" in out and "2 nH" in out
     code, out, _ = run("model", "--ic", "1mA", "--vce", "5", "--beta", "100")
     assert code == 0 and "l_b" not in out
+
+
+def test_one_command_built_alone_equals_the_whole_group(capsys):
+    """main() builds only the command it runs (start-up time); its help, options and usage
+    line must be those of the same command inside the whole group."""
+    from devmodels.cli import _command, _command_names, app
+
+    names = _command_names()
+    assert names == {info.name for info in app.registered_commands} and len(names) >= 16
+    group = _command()
+    for name in sorted(names):
+        alone = _command(name)
+        inside = group.commands[name]
+        assert [p.opts for p in alone.params] == [p.opts for p in inside.params], name
+        assert [p.help for p in alone.params if hasattr(p, "help")] == \
+               [p.help for p in inside.params if hasattr(p, "help")], name
+        assert type(alone) is type(inside), name
