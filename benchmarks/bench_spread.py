@@ -5,7 +5,13 @@ with one specification (so the yield is counted on every sample) and the worst c
 the box of limits.  Each run is a fresh process, so its peak resident size (the whole
 process: interpreter, numpy and the library included; VmHWM, its resident high-water
 mark) is the run's own; the time is the median over ``--repeat`` runs (``--repeat-large``
-for the larger count).
+for the larger count).  A streaming run evaluates its chunks in worker processes
+(``spread.WORKERS``, one per CPU): the peak memory reported is the SUM of the peaks of the
+run's process and of each worker (each worker's VmHWM is read from /proc every 0.1 s while it
+runs; a forked worker's VmHWM also counts the pages it shares with its parent, so the sum
+overstates the physical memory), and the CPU time is that of the run's process plus its
+workers (user plus system).  On a shared machine the wall time moves with the other jobs (the
+load average at the start of each run is shown), the CPU time much less.
 
 Rows:
 
@@ -33,6 +39,7 @@ import resource
 import statistics
 import subprocess
 import sys
+import threading
 import time
 from pathlib import Path
 
@@ -67,6 +74,56 @@ def _peak_rss() -> float:
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024.0  # kB on Linux
 
 
+def _cpu_seconds() -> float:
+    """CPU time of this process (every thread) and of its finished child processes (the spread's
+    workers), user plus system (s)."""
+    use = resource.getrusage(resource.RUSAGE_SELF)
+    kids = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return use.ru_utime + use.ru_stime + kids.ru_utime + kids.ru_stime
+
+
+class ChildPeaks:
+    """Peak resident size of each child process of this one (the spread's workers): VmHWM from
+    /proc/<pid>/status, read every ``interval`` s by a thread while they run (VmHWM only grows;
+    the last reading of each child is kept, so growth in its last interval can be missed; the
+    largest child's exact peak, ``ru_maxrss`` of RUSAGE_CHILDREN, is reported beside it)."""
+
+    def __init__(self, interval: float = 0.1):
+        self.interval = interval
+        self.peaks: dict[int, float] = {}
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._poll, daemon=True)
+
+    def _children(self) -> list[int]:
+        pids = []
+        for task in os.listdir(f"/proc/{os.getpid()}/task"):
+            try:
+                with open(f"/proc/{os.getpid()}/task/{task}/children") as fh:
+                    pids += [int(p) for p in fh.read().split()]
+            except OSError:
+                pass
+        return pids
+
+    def _poll(self) -> None:
+        while not self._stop.wait(self.interval):
+            for pid in self._children():
+                try:
+                    with open(f"/proc/{pid}/status") as fh:
+                        for line in fh:
+                            if line.startswith("VmHWM:"):
+                                self.peaks[pid] = max(self.peaks.get(pid, 0.0), float(line.split()[1]) * 1024)
+                except OSError:  # exited meanwhile
+                    pass
+
+    def __enter__(self) -> "ChildPeaks":
+        self._thread.start()
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self._stop.set()
+        self._thread.join()
+
+
 def child(n: int, keep: bool) -> None:
     """One run in this process; prints a JSON line with the time and the peak resident size."""
     from devmodels.spread import SpreadRanges, run_spread
@@ -74,13 +131,17 @@ def child(n: int, keep: bool) -> None:
     setup = _setup()
     run_spread(setup, SpreadRanges(110, 450, samples=1000, seed=0))  # warm-up (imports)
     ranges = SpreadRanges(110, 450, temp_min=253.15, temp_max=343.15, tol=0.05, samples=n, seed=1)
-    t = time.perf_counter()
-    res = run_spread(setup, ranges, specs=[SPEC], keep_values=keep)
-    dt = time.perf_counter() - t
-    rss = _peak_rss()
-    print(json.dumps({"time": dt, "rss": rss, "yield": res.yield_["fraction"],
-                      "p50_bound": res.stats_accuracy["bounds"]["av"]["p50"], "p50": res.stats["av"]["p50"],
-                      "method": res.stats_accuracy["method"]}))
+    load = os.getloadavg()[0]
+    t, cpu = time.perf_counter(), _cpu_seconds()
+    with ChildPeaks() as kids:
+        res = run_spread(setup, ranges, specs=[SPEC], keep_values=keep)
+    dt, cpu = time.perf_counter() - t, _cpu_seconds() - cpu
+    own = _peak_rss()
+    largest = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss * 1024.0  # kB on Linux
+    print(json.dumps({"time": dt, "cpu": cpu, "load": load, "rss": own + sum(kids.peaks.values()),
+                      "rss_own": own, "rss_workers": sorted(kids.peaks.values()), "rss_largest_worker": largest,
+                      "yield": res.yield_["fraction"], "p50_bound": res.stats_accuracy["bounds"]["av"]["p50"],
+                      "p50": res.stats["av"]["p50"], "method": res.stats_accuracy["method"]}))
 
 
 def _run(n: int, keep: bool) -> dict:
@@ -131,7 +192,8 @@ def main() -> None:
     rep_large = args.repeat_large or (1 if large >= 10**8 else args.repeat)
     load = os.getloadavg()
     print(f"machine: {platform.machine()}, {os.cpu_count()} cpus, load average {load[0]:.1f} (1 min), "
-          f"python {platform.python_version()}, numpy {np.__version__}; chunk {CHUNK}, {WORKERS} workers, "
+          f"python {platform.python_version()}, numpy {np.__version__}; chunk {CHUNK}, {WORKERS} worker processes "
+          "(streaming), "
           f"spec {SPEC!r}, worst case on; each run a fresh process")
     rows = []
     for n, keep, rep in ((small, True, args.repeat), (small, False, args.repeat), (large, False, rep_large)):
@@ -139,18 +201,22 @@ def main() -> None:
             continue
         runs = [_run(n, keep) for _ in range(rep)]
         rows.append((n, "kept" if keep else "streaming", rep, statistics.median(r["time"] for r in runs),
-                     max(r["rss"] for r in runs), runs[-1]))
+                     max(r["rss"] for r in runs), runs[-1], statistics.median(r["cpu"] for r in runs),
+                     max(r["load"] for r in runs)))
     scalar = _scalar_rate(args.scalar)
 
-    print(f"{'samples':>12} {'values':>10} {'runs':>4} {'time':>9} {'samples/s':>11} {'peak RSS':>9} "
-          f"{'stored values':>13} {'p50(av) bound':>13}")
-    for n, mode, rep, tm, rss, last in rows:
+    print(f"{'samples':>12} {'values':>10} {'runs':>4} {'time':>9} {'samples/s':>11} {'CPU us/sample':>13} "
+          f"{'load':>5} {'peak RSS':>9} {'stored values':>13} {'p50(av) bound':>13}  peak RSS: run + each worker "
+          "(largest worker, exact)")
+    for n, mode, rep, tm, rss, last, cpu, load in rows:
         stored = n * 8 * len(RESULTS) if mode == "kept" else 0
-        print(f"{n:>12,} {mode:>10} {rep:>4} {tm:8.2f}s {n / tm:11.3g} {rss / 1e6:7.0f}MB {stored / 1e6:11.0f}MB "
-              f"{last['p50_bound']:13.2g}")
+        parts = " + ".join(f"{x / 1e6:.0f}" for x in [last["rss_own"]] + last["rss_workers"])
+        print(f"{n:>12,} {mode:>10} {rep:>4} {tm:8.2f}s {n / tm:11.3g} {cpu / n * 1e6:13.2f} {load:5.1f} "
+              f"{rss / 1e6:7.0f}MB {stored / 1e6:11.0f}MB {last['p50_bound']:13.2g}  {parts} MB "
+              f"({last['rss_largest_worker'] / 1e6:.0f} MB)")
     print(f"scalar pipeline: {scalar:,.0f} samples/s ({args.scalar} samples)")
     print(f"load average after the runs: {os.getloadavg()[0]:.1f} (the machine is shared: rates vary with it)")
-    n, _, _, tm, rss, _ = rows[-1]
+    n, _, _, tm, rss, _, _, _ = rows[-1]
     ratio_line(f"spread, {n:.0e} samples streaming: samples/s (vs scalar pipeline)", f"{n / tm:.3g}/s",
                f"{scalar:.3g}/s", n / tm / scalar, "1e8 samples in ~60 s (1.7e6/s)", n / tm >= 1.6e6)
     small_stream = next(r for r in rows if r[0] == small and r[1] == "streaming")

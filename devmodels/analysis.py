@@ -133,7 +133,7 @@ THREADS = min(4, os.cpu_count() or 1)
 STABILITY_TOL = 1e-9
 
 __all__ = ["Terminated", "STABILITY_TOL", "terminate", "terminate_configs", "terminate_arrays", "terminate_arrays_y",
-           "stability_arrays", "stability_arrays_y", "to_db"]
+           "stability_arrays", "stability_arrays_y", "rollett_k_arrays_y", "to_db"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -444,6 +444,36 @@ def stability_arrays_y(y: np.ndarray, z0=50.0, out: dict | None = None, *,
         _stability_y(_entries(y[start:stop], _work()), z1, z2, {k: v[start:stop] for k, v in res.items()},
                      None if indefinite is None else indefinite[start:stop])
     return res
+
+
+def rollett_k_arrays_y(y: np.ndarray) -> np.ndarray:
+    """Rollett's stability factor K alone, from Y of shape (N, 2, 2) in S.
+
+    :math:`K = (2 g_{11} g_{22} - \\mathrm{Re}\\,P) / |P|`, :math:`P = y_{12} y_{21}` (Rollett
+    1962, module docstring): the ``k`` of :func:`stability_arrays_y` by the same operations
+    (equal bit for bit, checked by the tests), for callers that need no other invariant.
+
+    Parameters
+    ----------
+    y : ndarray, complex, shape (N, 2, 2)
+        Admittance parameters in S.
+
+    Returns
+    -------
+    ndarray (N,)
+        K (dimensionless); NaN where it does not exist (y12 or y21 exactly 0, or not finite).
+    """
+    y = np.asarray(y, dtype=complex)
+    y12, y21 = y[:, 0, 1], y[:, 1, 0]
+    p = y12 * y21
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        num = np.multiply(y[:, 0, 0].real, y[:, 1, 1].real)
+        num *= 2.0
+        num -= p.real
+        k = np.divide(num, np.abs(p), out=num)
+    if not (np.all(y12) and np.all(y21)):  # exactly: S12 S21 = 0 somewhere
+        k[(y12 == 0) | (y21 == 0)] = np.nan
+    return _nan_where_not_finite(k)
 
 
 def _entries(y: np.ndarray, w: _Work) -> tuple[np.ndarray, ...]:

@@ -11,6 +11,16 @@ Example::
 
 Values may be numbers (SI units) or strings with SI prefixes and units.  The accepted keys
 and tables are those of :mod:`devmodels.schema` (one description for files and options).
+
+A ``[spec]`` table gives ``spread`` its specifications, one key per result, each a comparison
+as text or a list of them (read by :func:`devmodels.worstcase.collect_specs`, the same reader
+as ``--spec``; a ``--spec`` option adds to the table or replaces its limit on the same result
+in the same direction)::
+
+    [spec]
+    av = ">=40"
+    zin = ">=1k"
+    ic = [">=0.8mA", "<=1.2mA"]
 The reader refuses what it cannot mean: an unknown key or table (with the nearest valid
 name), the same key written twice (``vce_sat`` and ``vce-sat``), a value of the wrong type
 (``beta = {a = 1}``), tables nested deeper than a bias file needs, and anything that is
@@ -29,6 +39,8 @@ __all__ = ["load_bias_file", "MAX_BYTES"]
 
 #: Largest bias file read, bytes (a bias file is a few hundred bytes).
 MAX_BYTES = 1 << 20
+#: Most comparisons one result may have in the ``[spec]`` table.
+MAX_SPECS_PER_RESULT = 16
 
 
 def _where(p: Path) -> str:
@@ -89,7 +101,8 @@ def load_bias_file(path: str | Path) -> tuple[dict, dict]:
     flat : dict
         Top-level keys (``-`` read as ``_``), raw values (numbers or strings) as written.
     tables : dict of str -> dict
-        The tables (``network``), their keys normalised the same way.
+        The tables (``network``; ``spec``: result name -> text or list of texts), their keys
+        normalised the same way.
 
     Raises
     ------
@@ -118,7 +131,7 @@ def load_bias_file(path: str | Path) -> tuple[dict, dict]:
         if key in TABLES:
             if not isinstance(value, dict):
                 raise FileFormatError(f"{where}: {key}: expected a table [{key}], got {type_name(value)}")
-            tables[key] = _table(value, key, where)
+            tables[key] = _spec_table(value, where) if key == "spec" else _table(value, key, where)
             continue
         if key not in known:
             if isinstance(value, dict):
@@ -146,6 +159,28 @@ def _scalar(key: str, value, unit: str, where: str):
     if unit == "str" and not isinstance(value, str):
         raise FileFormatError(f"{where}: {key}: expected text, got {type_name(value)}")
     return value
+
+
+def _spec_table(value: dict, where: str) -> dict:
+    """The ``[spec]`` table: result name -> a comparison as text (``">=40"``) or a list of them.
+
+    Only the form is checked here; the names and the comparisons are read, against the
+    results of the run, by :func:`devmodels.worstcase.collect_specs` (the reader of ``--spec``).
+    """
+    from .units import type_name
+
+    value = _normalised(value, where, " in [spec]")
+    out = {}
+    for k, v in value.items():
+        if isinstance(v, dict):
+            raise FileFormatError(f"{where}: [spec.{k}]: tables inside [spec] are not used; write "
+                                  f"{k} = \">=VALUE\" (or a list of such texts)")
+        texts = v if isinstance(v, list) else [v]
+        if not texts or len(texts) > MAX_SPECS_PER_RESULT or not all(isinstance(t, str) for t in texts):
+            raise FileFormatError(f"{where}: spec.{k}: expected a comparison as text such as \">=40\" or a list "
+                                  f"of at most {MAX_SPECS_PER_RESULT}, got {type_name(v)}")
+        out[k] = list(texts) if isinstance(v, list) else v
+    return out
 
 
 def _table(value: dict, name: str, where: str) -> dict:

@@ -20,6 +20,7 @@ PANELS: tuple[tuple[str, str], ...] = (
     ("av", "|av| = |V2/V1|"), ("avs", "|avs| = |V2/Vs|"), ("zin", "|Zin| (kΩ)"), ("zout", "|Zout| (kΩ)"),
     ("gt_db", "GT (dB)"), ("ai", "|ai| = |-I2/I1|"), ("ic", "IC (mA)"), ("vce", "VCE (V)"),
     ("power", "P (mW)"), ("k", "Rollett K"), ("gm", "gm (mS)"), ("ro", "ro (kΩ)"),
+    ("nf_db", "NF at Rs (dB)"), ("nfmin_db", "NFmin (dB)"),
 )
 _SCALE = {"ic": 1e3, "power": 1e3, "zin": 1e-3, "zout": 1e-3, "gm": 1e3, "ro": 1e-3}
 
@@ -63,6 +64,12 @@ def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
     import matplotlib.pyplot as plt
 
     panels = [(k, label) for k, label in PANELS if result.stats.get(k) is not None]
+    from .worstcase import parse_spec
+
+    limits: dict[str, list[float]] = {}  # the specification limits, drawn where they apply
+    for text in (result.yield_ or {}).get("specs", ()):
+        name, _, value = parse_spec(text, tuple(result.stats))
+        limits.setdefault(name, []).append(value)
     cols = 5 if len(panels) > 6 else 3
     rows = max(1, math.ceil(len(panels) / cols))
     fig, axes = plt.subplots(rows, cols, figsize=(3.2 * cols, 2.7 * rows + 0.8), squeeze=False)
@@ -77,6 +84,8 @@ def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
         st = result.stats[key]
         for q, style in (("p5", ":"), ("p50", "--"), ("p95", ":")):
             ax.axvline(st[q] * scale, color="#333333", linestyle=style, linewidth=1)
+        for limit in limits.get(key, ()):
+            ax.axvline(limit * scale, color="#55a868", linestyle="-", linewidth=1.6)
         w = (result.worst or {}).get(key) or {}
         for end, color, marker in (("min", "#c44e52", "v"), ("max", "#dd8452", "^")):
             x = w.get(f"worst_{end}")
@@ -100,7 +109,8 @@ def plot_spread(result, path: str | Path, bins: int = 60) -> Path:
 
     fig.suptitle(f"{s.config.upper()} stage at {format_si(s.freq, 'Hz')}, Rs = {imp(s.rs)}, RL = {imp(s.rl)}: "
                  f"{result.samples:,} samples (seed {result.seed})\n{_limits_text(s, r)}; "
-                 "dashed: median; dotted: 5th and 95th percentiles; triangles: worst min / max over the limits",
+                 "dashed: median; dotted: 5th and 95th percentiles; triangles: worst min / max over the limits"
+                 + ("; green: specification limits" if limits else ""),
                  fontsize=9)
     fig.tight_layout()
     try:

@@ -24,7 +24,7 @@ from .exceptions import InputError
 from .units import Bounds, check_bounds, parse_quantity, parse_temperature, shown, temperature_warning, type_name
 
 __all__ = ["Key", "DEVICES", "FAMILY", "PANELS", "TABLES", "keys", "flat_keys", "table_keys", "merge",
-           "nearest", "STAGE_NETWORK", "DATASHEET", "FET_DATASHEET", "MAX_POINTS", "MAX_STREAMED_POINTS", "MAX_SAMPLES", "FREQ", "Z0",
+           "nearest", "STAGE_NETWORK", "DATASHEET", "FET_DATASHEET", "MAX_POINTS", "MAX_STREAMED_POINTS", "MAX_SAMPLES", "MAX_STREAMED_SAMPLES", "FREQ", "Z0",
            "IMPEDANCE"]
 
 #: Every device type and its family ("bipolar", "mosfet", "jfet").
@@ -39,8 +39,11 @@ PANELS: dict[str, str] = {
     "stagenet": "Stage network in the AC analysis ([network] table)",
     "datasheet": "Datasheet values at their test conditions (bipolar)",
     "fetdatasheet": "Datasheet values at their test conditions (FET)"}
-#: Tables a bias file may hold.
-TABLES: tuple[str, ...] = ("network",)
+#: Tables a bias file may hold.  ``[network]`` holds schema keys; ``[spec]`` holds specifications
+#: of ``spread`` (result name -> ``">=40"`` or a list of such texts), read by
+#: :func:`devmodels.biasfile.load_bias_file` as text and by :func:`devmodels.worstcase.collect_specs`
+#: (the reader of ``--spec``) against the results of the run.
+TABLES: tuple[str, ...] = ("network", "spec")
 
 # Ranges of quantities that are options of commands rather than bias keys (SI, magnitudes).
 FREQ = Bounds(1e-6, 1e15)
@@ -66,6 +69,10 @@ MAX_POINTS = max(1000, _memory_bytes() // 4 // 2048)
 #: fixed 70 MB; a quarter of the memory at 64 bytes per point keeps a margin of four.
 MAX_STREAMED_POINTS = max(MAX_POINTS, _memory_bytes() // 4 // 64)
 MAX_SAMPLES = max(1000, _memory_bytes() // 4 // 400)
+#: Largest spread whose per-sample values are not kept (statistics from the streaming summary:
+#: its memory does not grow with the count).  A bound on time, not memory: at the measured
+#: 0.7-1e6 samples/s on two cores, about 20 minutes.
+MAX_STREAMED_SAMPLES = max(MAX_SAMPLES, 1_000_000_000)
 
 
 @dataclass(frozen=True, slots=True)
@@ -225,6 +232,8 @@ EXTRA: tuple[tuple[str, str, str, Bounds | None, str, str, str | None], ...] = (
      "SpreadRanges.temp_min", None),
     ("temp_max", "K", "Highest temperature, K or Celsius (70C) (default --temp).", None, "spread",
      "SpreadRanges.temp_max", None),
+    ("ctol", "%", "Capacitor tolerance, % (the [network] table's coupling, bypass and base capacitors in "
+     "the configuration's circuit) (default 0).", Bounds(1e-9, 99.999999), "spread", "SpreadRanges.ctol", None),
 )
 
 

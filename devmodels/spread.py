@@ -14,13 +14,24 @@ and then recomputes, for all samples at once: beta and VBE(on) at the temperatur
 (:mod:`devmodels.temperature`), the operating point (:func:`devmodels.dcbias.solve_arrays`,
 when a network is given; otherwise IC and VCE are fixed), the hybrid-pi model (relations of
 :mod:`devmodels.models`), the stage's Y parameters at one frequency, and the terminated
-analysis (:func:`devmodels.analysis.terminate_arrays` and ``stability_arrays``).
+analysis (:func:`devmodels.analysis.terminate_arrays_y`, and Rollett's K alone,
+:func:`devmodels.analysis.rollett_k_arrays_y`).
 
 The model is made by the relations of :func:`devmodels.models.hybrid_pi_values` on arrays
 of samples, and the stage's Y parameters come from the stage's own netlist
 (:meth:`devmodels.stage.Stage.indefinite_block`) with the samples as the points: the same
 description and engine as a frequency sweep.  The tests check it against the scalar
 pipeline sample by sample.
+
+**The stage as built.**  With ``stage_network`` (a :class:`devmodels.stagenetwork.StageNetwork`)
+the AC analysis is the stage ``gain`` analyses, ``Stage(model, config, rdeg, rfb,
+network=...)``: the bias resistors load the input, ``rc`` the output, the unbypassed part of
+``re`` degenerates, and the coupling and bypass capacitors are in it at their given values.
+Its resistors are the DC network's (one set of parts, one draw per resistor, used by the
+operating point and the AC analysis alike).  An emitter resistor that ``c_bypass`` bypasses
+in part is two physical resistors in series, ``re_unbypassed`` and ``re_bypassed``: each is
+drawn independently within the tolerance (two parts from a reel are not matched), and the
+operating point uses their sum.
 
 Samples are processed in chunks of :data:`CHUNK` and summarised as they stream, so the
 memory does not grow with the sample count: minimum and maximum are exact, the percentiles
@@ -29,6 +40,21 @@ relative bin width 1e-4; the bound of each percentile's error is reported in
 :attr:`SpreadResult.stats_accuracy`).  Per-sample values are kept only when asked
 (``keep_values``; by default up to :data:`KEEP_VALUES_MAX` samples, 8 bytes per sample per
 result), and then the percentiles are exact (numpy's 'linear' method).
+
+**Chunks, seeds and worker processes.**  Chunk ``k`` draws its samples from the run's stream
+(numpy's ``default_rng(seed)``, PCG64) advanced past every earlier sample's draws, so its
+samples depend on the seed and ``k`` alone and are those one generator drawing chunk after
+chunk gives (a seed reproduces the same samples with any number of workers; with the same
+:data:`CHUNK`).  The first chunk is evaluated in the calling process and fixes the grid of the
+streaming summary (the scale of each result's asinh grid: a hundredth of the chunk's smallest
+non-zero magnitude; a result without one there takes it from the corners, else 1 in its unit).
+The other chunks go to :data:`WORKERS` worker processes (forked on Linux), a few chunks per
+task: each task returns its tally (the summary on the same grid, region counts, specification
+counts, maxima; a few hundred kilobytes) and, only when the values are kept, its values; the
+tallies merge exactly and in any order (:meth:`devmodels.worstcase.StreamingSummary.merge`), so
+the numbers do not depend on the number of workers or on which finishes first.  Runs of fewer
+than :data:`PROCESS_MIN_CHUNKS` chunks after the first, and ``workers=1``, stay in the calling
+process.
 A sample whose operating point is not in the forward-active region (or whose C_pi would
 be negative) has no small-signal results: they are NaN there and the counts are reported.
 
@@ -39,11 +65,27 @@ extremes over the box of limits (:func:`devmodels.worstcase.worst_case`: ``worst
 streams; the yield is the fraction passing all of them with its 95 % Wilson interval
 (:func:`devmodels.worstcase.yield_fraction`).
 
+**Noise.**  With ``noise=True`` on the setup, each sample also has its noise figure at the
+source impedance ``rs`` (``nf_db``) and its minimum noise figure (``nfmin_db``), in dB: the
+stage whose element values are the samples' arrays goes through
+:func:`devmodels.noise.stage_noise` (the noise sources of the same netlist: 4kT/R of every
+physical resistor including ``rdeg`` and ``rfb``, base and collector shot noise, a FET's
+channel noise) and :func:`devmodels.noise.noise_parameters`, with the source at T0 = 290 K and
+the device and resistors at the sample's temperature.  As the rest of the spread's AC
+analysis, the stage is the one of the setup: with a ``stage_network`` the whole stage as
+built (the bias resistors, ``rc`` and ``re`` add their 4kT/R at their sampled values and load
+the ports), without one the transistor with ``rdeg`` and ``rfb`` (a warning says so when a DC
+network is given).  They are results like the others:
+percentiles, worst case over the box, specifications (``nf_db<=3``).  Off by default: it
+costs up to about as much again per sample (measured 1.5 to 2.3 times on 1e6 samples of a
+loaded two-core machine).
+
 **FETs.**  :class:`FetSpreadSetup` holds a FET at a fixed bias point (ID, VDS; the library
 has no FET bias network yet) and :class:`FetSpreadRanges` the datasheet limits: IDSS and
 VP of a JFET, ``kn`` or the overdrive ``vov`` of a MOSFET (the model has no threshold
-voltage), and ``lambda``, each sampled uniformly, plus the tolerance of ``rdeg`` and
-``rfb``.  The element values follow the square laws of :mod:`devmodels.fetbias`; the
+voltage), and ``lambda``, each sampled uniformly, plus the tolerance of ``rdeg``,
+``rfb`` and, with a ``stage_network``, the network's resistors (under the FET's names,
+:data:`FET_NETWORK_NAMES`; the network is in the AC analysis and does not set ID).  The element values follow the square laws of :mod:`devmodels.fetbias`; the
 model is a :class:`devmodels.fet.FetModel` whose elements are arrays of samples, and the
 results are the small-signal ones.  :func:`run_spread` asks the setup object for its
 limits, draws, evaluation, corners and worst case: which device it is, is decided once,
@@ -52,11 +94,10 @@ by the class of the setup.
 
 from __future__ import annotations
 
+import contextlib
 import math
 import os
-import threading
-from collections import deque
-from concurrent.futures import ThreadPoolExecutor
+import sys
 from dataclasses import dataclass, field
 from typing import Callable
 
@@ -69,22 +110,36 @@ from .exceptions import InputError
 from .dcbias import REGIONS, BiasNetwork, rating_warnings, solve_arrays
 from .models import HybridPi, hybrid_pi_values
 from .stage import Stage
+from .stagenetwork import StageNetwork
 from .temperature import BETA_TC_DEFAULT, T_REF, VBE_DEFAULT, VBE_TC_DEFAULT, beta_at, vbe_at
+from .worstcase import FET_RESULTS, NOISE_RESULTS, QUANTILES, RESULTS, StreamingSummary, grid_scale, worst_case
 
-__all__ = ["CHUNK", "RESULTS", "FET_RESULTS", "QUANTILES", "RESULT_KEYS", "KEEP_VALUES_MAX", "SpreadSetup",
-           "SpreadRanges", "FetSpreadSetup", "FetSpreadRanges", "SpreadResult", "evaluate", "run_spread"]
+__all__ = ["CHUNK", "WORKERS", "PROCESS_MIN_CHUNKS", "TASK_CHUNKS", "RESULTS", "FET_RESULTS", "NOISE_RESULTS",
+           "QUANTILES", "RESULT_KEYS", "KEEP_VALUES_MAX", "FET_NETWORK_NAMES", "SpreadSetup", "SpreadRanges",
+           "FetSpreadSetup", "FetSpreadRanges", "SpreadResult", "evaluate", "run_spread"]
 
 #: Samples per chunk (bounds the working memory; part of what a seed reproduces). Measured on
 #: 1e6 samples: 16384 gives 1.6e6 samples/s, 32768 1.4e6, 4096 1.2e6.
 CHUNK = 16384
-#: Threads that evaluate chunks (results do not depend on it).
-WORKERS = max(1, min(4, os.cpu_count() or 1))
-#: Results reported for each sample (magnitudes, except gt_db in dB and k).
-RESULTS: tuple[str, ...] = ("av", "avs", "ai", "zin", "zout", "gt_db", "k", "ic", "vce", "power")
-#: Results of a FET spread (magnitudes, except gt_db in dB and k; gm in S, ro in ohm).
-FET_RESULTS: tuple[str, ...] = ("av", "avs", "ai", "zin", "zout", "gt_db", "k", "gm", "ro")
-#: Statistics reported: name -> percentile.
-QUANTILES: dict[str, float] = {"min": 0.0, "p5": 5.0, "p50": 50.0, "p95": 95.0, "max": 100.0}
+
+
+def _cpus() -> int:
+    """The CPUs this process may run on (its affinity, where the platform reports it)."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except (AttributeError, OSError):
+        return max(1, os.cpu_count() or 1)
+
+
+#: Worker processes of a run (results do not depend on it): the CPUs this process may use.
+WORKERS = _cpus()
+#: Streaming runs of fewer chunks than this (beyond the first) stay in this process: starting the
+#: workers costs about as much as a few chunks.
+PROCESS_MIN_CHUNKS = 8
+#: Most chunks a worker evaluates per task (one summary sent back, one step of the progress).
+TASK_CHUNKS = 16
+# RESULTS (bipolar), FET_RESULTS, NOISE_RESULTS and QUANTILES (the statistics reported) are
+# defined in devmodels.worstcase beside the results' units and re-exported here.
 #: Keys of each result's object in :meth:`SpreadResult.as_dict` (the interface's names).
 RESULT_KEYS: tuple[str, ...] = ("min", "p5", "p50", "p95", "max", "worst_min", "worst_max", "worst_min_at",
                                 "worst_max_at", "method")
@@ -130,9 +185,17 @@ class SpreadSetup:
     rdeg, rfb : float or None
         External degeneration and collector-base feedback resistors (ohm), toleranced too.
     z0 : (float, float)
-        S reference resistances for K, ohm.
+        S reference resistances, ohm (K, the spread's one stability result, does not depend on them).
     pmax, vceo : float or None
         Ratings (W, V) checked against the worst sample.
+    noise : bool
+        Also compute the noise results :data:`NOISE_RESULTS` (needs ``Re(rs) > 0``).
+    stage_network : StageNetwork or None
+        The stage as built (:class:`devmodels.stagenetwork.StageNetwork`: bias resistors,
+        ``rc``, ``re`` and its bypassed part, the capacitors) in the AC analysis, as ``gain``
+        analyses it; its resistors are toleranced (with ``network``, they are the same
+        resistors as the DC network's, checked).  ``None``: the AC analysis is the transistor
+        with ``rdeg`` and ``rfb`` alone (the network, if any, sets the operating point only).
     """
 
     config: str = "ce"
@@ -160,6 +223,8 @@ class SpreadSetup:
     z0: tuple[float, float] = (50.0, 50.0)
     pmax: float | None = None
     vceo: float | None = None
+    noise: bool = False
+    stage_network: StageNetwork | None = None
 
     def __post_init__(self) -> None:
         if self.config not in BJT_CONFIGS:
@@ -174,12 +239,20 @@ class SpreadSetup:
         if not (math.isfinite(self.freq) and self.freq >= 0):
             raise InputError(f"freq: expected a frequency >= 0 Hz, got {self.freq:g}")
         _check_terminations(self)
+        _check_stage_network(self)
 
     @property
     def resistors(self) -> dict[str, float]:
-        """Nominal values of every toleranced resistor, ohm (network first, then rdeg, rfb)."""
-        out = dict(self.network.resistors) if self.network is not None else {}
-        return out | _stage_resistors(self)
+        """Nominal values of every toleranced resistor, ohm: the network's (the DC network's,
+        with the stage network's ``re`` in its two parts ``re_unbypassed``, ``re_bypassed``
+        when it has them), then ``rdeg``, ``rfb``."""
+        return _network_resistors(self) | _stage_resistors(self)
+
+    @property
+    def capacitors(self) -> dict[str, float]:
+        """Nominal values of the capacitors a ``ctol`` tolerances, F: the stage network's real ones
+        in this configuration's circuit (:func:`_network_capacitors`)."""
+        return _network_capacitors(self)
 
     # --- what run_spread asks of a setup (the FET setup answers the same questions) -------------
     def describe(self, ranges: "SpreadRanges") -> dict:
@@ -192,26 +265,32 @@ class SpreadSetup:
         r = ranges
         return {"bias": bias, "bias_json": {"network": None if self.network is None else self.network.kind},
                 "ranges": {"beta_min": r.beta_min, "beta_max": r.beta_max, "beta_typ": r.beta_typ,
-                           "temp_min": r.temp_min, "temp_max": r.temp_max, "tol": r.tol * 100},
+                           "temp_min": r.temp_min, "temp_max": r.temp_max, "tol": r.tol * 100, "ctol": r.ctol * 100},
                 "limits_text": (f"beta {r.beta_min:g}..{r.beta_max:g} at {self.t_ref:.2f} K "
                                 f"({'uniform' if r.beta_typ is None else f'triangular, typ {r.beta_typ:g}'}), "
-                                f"T {r.temp_min:.2f}..{r.temp_max:.2f} K, resistors ±{r.tol * 100:g} % (uniform)")}
+                                f"T {r.temp_min:.2f}..{r.temp_max:.2f} K, resistors ±{r.tol * 100:g} % (uniform)"
+                                + _ctol_text(self, r))}
 
     @property
     def results(self) -> tuple[str, ...]:
-        """The results of this spread: :data:`RESULTS`."""
-        return RESULTS
+        """The results of this spread: :data:`RESULTS` (and :data:`NOISE_RESULTS` with ``noise``)."""
+        return RESULTS + (NOISE_RESULTS if self.noise else ())
 
     def limits(self, ranges: "SpreadRanges") -> dict[str, tuple[float, float]]:
-        """The box of limits (:func:`devmodels.worstcase.box_limits`): beta, temp, resistor factors.
+        """The box of limits (:func:`devmodels.worstcase.box_limits`): ``beta`` (at ``t_ref``),
+        ``temp`` (K) and, with a tolerance, a multiplier ``(1 - tol, 1 + tol)`` per resistor.
 
         Parameters
         ----------
         ranges : SpreadRanges
         """
-        from .worstcase import box_limits
-
-        return box_limits(self, ranges)
+        out = {"beta": (float(ranges.beta_min), float(ranges.beta_max)),
+               "temp": (float(ranges.temp_min), float(ranges.temp_max))}
+        if ranges.tol > 0:
+            out |= {name: (1.0 - ranges.tol, 1.0 + ranges.tol) for name in self.resistors}
+        if ranges.ctol > 0:
+            out |= {name: (1.0 - ranges.ctol, 1.0 + ranges.ctol) for name in self.capacitors}
+        return out
 
     def evaluate_points(self, points: dict[str, np.ndarray]) -> dict:
         """:func:`evaluate` at points given as one array per limit (keys of :meth:`limits`).
@@ -228,8 +307,16 @@ class SpreadSetup:
         if not isinstance(ranges, SpreadRanges):
             raise InputError(f"ranges: a bipolar spread takes SpreadRanges, got {type(ranges).__name__}")
 
+    def _drawn(self, ranges: "SpreadRanges") -> tuple[list, list]:
+        """The resistors and capacitors drawn (those with a tolerance)."""
+        return (list(self.resistors) if ranges.tol > 0 else [], list(self.capacitors) if ranges.ctol > 0 else [])
+
     def _draw(self, rng: np.random.Generator, ranges: "SpreadRanges", n: int):
-        return _draw(rng, ranges, list(self.resistors) if ranges.tol > 0 else [], n)
+        names, caps = self._drawn(ranges)
+        return _draw(rng, ranges, names, n, caps)
+
+    def _draws_per_sample(self, ranges: "SpreadRanges") -> int:
+        return _draw_count(ranges, *self._drawn(ranges))
 
     def _evaluate_draw(self, draw) -> dict:
         return evaluate(self, *draw)
@@ -238,8 +325,6 @@ class SpreadSetup:
         return _corners(self, ranges, list(self.resistors) if ranges.tol > 0 else [])
 
     def _worst_case(self, ranges: "SpreadRanges") -> dict:
-        from .worstcase import worst_case
-
         return worst_case(self, ranges)
 
     #: Region names of the codes of ``evaluate(...)["region"]`` (code 3, C_pi < 0, is counted apart).
@@ -255,13 +340,18 @@ class SpreadSetup:
         if counts[3]:
             warnings.append(f"ft: at {counts[3]} of {n} samples fT is too high for cmu at that IC (C_pi < 0); "
                             "they are left out of the statistics")
+        if self.noise and self.network is not None and self.stage_network is None:
+            warnings.append("nf_db: the noise figure is that of the transistor with rdeg and rfb, as the rest of "
+                            "this spread's AC analysis (no stage_network); the bias network's resistors (their "
+                            "noise and their loading of the input) are not in it (the noise command includes them)")
         vcc = abs(self.network.vcc) if self.network is not None else 0.0
         return warnings + rating_warnings(maxima["power"], maxima["vce"], vcc, pmax=self.pmax, vceo=self.vceo,
                                           where=" at the worst sample")
 
 
 def _check_terminations(setup) -> None:
-    """Refuse source and load impedances with a negative real part, and negative rdeg / rfb."""
+    """Refuse source and load impedances with a negative real part, and negative rdeg / rfb; with
+    ``noise``, a source without a real part (the noise figure is referred to the source's noise)."""
     for name in ("rs", "rl"):
         z = getattr(setup, name)
         if isinstance(z, bool) or not isinstance(z, (int, float, complex, np.number)):
@@ -274,11 +364,101 @@ def _check_terminations(setup) -> None:
         v = getattr(setup, name)
         if v is not None and not (math.isfinite(v) and v >= 0):
             raise InputError(f"{name}: expected a resistance >= 0 ohm, got {v:g}")
+    if not isinstance(setup.noise, bool):
+        raise InputError(f"noise: expected True or False, got {setup.noise!r}")
+    if setup.noise and not complex(setup.rs).real > 0:
+        raise InputError(f"rs: the noise figure needs a source impedance with a real part > 0 ohm (it is "
+                         f"referred to the source's own noise), got {complex(setup.rs)}")
+
+
+def _noise_figures(stage: Stage, freq: float, rs) -> tuple[np.ndarray, np.ndarray]:
+    """Noise figure at the source ``rs`` and minimum noise figure (dB) of a stage of samples.
+
+    The stage's element values are arrays of the samples (or scalars); its noise is that of its
+    netlist (:func:`devmodels.noise.stage_noise`, one frequency, the samples as the points) and
+    the figures follow from the chain-form correlation matrix
+    (:func:`devmodels.noise.noise_parameters`; Hillbrand and Russer 1976), the source at T0.
+
+    Parameters
+    ----------
+    stage : devmodels.stage.Stage
+        The stage, element values arrays of N samples.
+    freq : float
+        Frequency in Hz.
+    rs : complex
+        Source impedance in ohm (real part > 0).
+
+    Returns
+    -------
+    (ndarray (N,), ndarray (N,))
+        NF and NFmin in dB; NaN where the chain form does not exist (y21 = 0: no transmission).
+    """
+    from .noise import NoisyTwoPort, noise_parameters, stage_noise
+
+    ntp = stage_noise(stage, np.array([float(freq)]))
+    n = ntp.freq.size
+    nf, nfmin = np.full(n, np.nan), np.full(n, np.nan)
+    has = ntp.data[:, 1, 0] != 0  # the chain form's pivot (devmodels.conversions)
+    if not has.all():
+        ntp = NoisyTwoPort(ntp.freq[has], ntp.data[has], ntp.cor[has], ntp.form)
+    if ntp.freq.size:
+        r = noise_parameters(ntp, zs=complex(rs))
+        nf[has], nfmin[has] = r.nf_db, r.nfmin_db
+    return nf, nfmin
 
 
 def _stage_resistors(setup) -> dict[str, float]:
     """The stage's own toleranced resistors (``rdeg``, ``rfb``) that are present."""
     return {name: getattr(setup, name) for name in ("rdeg", "rfb") if getattr(setup, name)}
+
+
+#: The stage network's resistor names (:attr:`devmodels.stagenetwork.StageNetwork.resistors`) as a FET
+#: spread names its limits: the ``[network]`` keys of a FET (``rgate``: the one gate resistor of a
+#: gate biased through a single resistor, ``rg1`` or ``rg2``, whichever the network has).
+FET_NETWORK_NAMES: dict[str, str] = {"r1": "rg1", "r2": "rg2", "rb": "rgate", "rc": "rd", "re": "rsrc",
+                                     "re_unbypassed": "rsrc_unbypassed", "re_bypassed": "rsrc_bypassed"}
+
+
+def _network_resistors(setup) -> dict[str, float]:
+    """The toleranced resistors of the setup's networks (DC ``network`` and ``stage_network``).
+
+    They are one set of parts: the DC network's ``r1``, ``r2``, ``rb``, ``rc``, ``re`` are the
+    stage network's (:func:`_check_stage_network`).  An emitter resistor that a bypass capacitor
+    shunts in part is two resistors in series (``re_unbypassed``, ``re_bypassed``), each drawn
+    on its own; the operating point uses their sum.
+    """
+    out = dict(setup.network.resistors) if getattr(setup, "network", None) is not None else {}
+    if setup.stage_network is not None:
+        ac = setup.stage_network.resistors
+        if "re_unbypassed" in ac:
+            out.pop("re", None)
+        out |= ac
+    return out
+
+
+def _check_stage_network(setup) -> None:
+    """A setup's ``stage_network``: a StageNetwork of single (nominal) values, and the same parts
+    as the DC ``network`` when the setup has one."""
+    sn = setup.stage_network
+    if sn is None:
+        return
+    if not isinstance(sn, StageNetwork):
+        raise InputError(f"stage_network: expected a StageNetwork, got {type(sn).__name__}")
+    for name, v in sn.resistors.items():
+        if np.ndim(v) != 0:
+            raise InputError(f"stage_network: {name} must be one nominal value in ohm (the spread draws the "
+                             "samples), got an array")
+    net = getattr(setup, "network", None)
+    if net is None:
+        return
+    if sn.bias != net.kind:
+        raise InputError(f"stage_network: its bias is {sn.bias!r} and the DC network's is {net.kind!r}; they "
+                         "describe one circuit")
+    for name in ("r1", "r2", "rb", "rc", "re"):
+        a, b = getattr(sn, name), getattr(net, name)
+        if a != b:
+            raise InputError(f"stage_network: {name} = {a!r} ohm differs from the DC network's {name} = {b!r} ohm; "
+                             "they describe one circuit")
 
 
 @dataclass(frozen=True, slots=True)
@@ -299,6 +479,10 @@ class SpreadRanges:
         Number of samples.
     seed : int or None
         Seed of the random generator (``None``: a fresh one, reported in the result).
+    ctol : float
+        Capacitor tolerance as a fraction, for the stage network's real capacitors (those in the
+        configuration's circuit, :func:`_network_capacitors`), each drawn uniformly and
+        independently in [1 - ctol, 1 + ctol] after the resistors.
     """
 
     beta_min: float
@@ -309,8 +493,11 @@ class SpreadRanges:
     beta_typ: float | None = None
     samples: int = 10000
     seed: int | None = None
+    ctol: float = 0.0
 
     def __post_init__(self) -> None:
+        _check_ctol(self.ctol)
+
         def check(name, v, what, low=0.0, strict=True):
             if not (isinstance(v, (int, float)) and math.isfinite(v)) or (v <= low if strict else v < low):
                 raise InputError(f"{name}: expected {what}, got {v!r}")
@@ -334,6 +521,31 @@ class SpreadRanges:
         if self.seed is not None and (isinstance(self.seed, bool) or not isinstance(self.seed, (int, np.integer))
                                       or self.seed < 0):
             raise InputError(f"seed: expected a whole number >= 0, got {self.seed!r}")
+
+
+def _ctol_text(setup, ranges) -> str:
+    """The capacitor tolerance for a report's limits (empty without one)."""
+    if ranges.ctol <= 0 or not setup.capacitors:
+        return ""
+    return f", {', '.join(setup.capacitors)} ±{ranges.ctol * 100:g} % (uniform)"
+
+
+def _check_ctol(ctol) -> None:
+    if isinstance(ctol, bool) or not isinstance(ctol, (int, float, np.number)) or not math.isfinite(ctol) \
+            or not 0 <= ctol < 1:
+        raise InputError(f"ctol: expected a capacitor tolerance from 0 % to below 100 %, got {ctol!r}")
+
+
+def _network_capacitors(setup) -> dict[str, float]:
+    """The stage network's real capacitors that are in the setup's configuration (``c_base`` is in
+    a common-base stage only, ``c_bypass`` in a common-emitter one), F: the toleranced ones."""
+    sn = setup.stage_network
+    if sn is None or not sn.capacitors():
+        return {}
+    configs = BJT_CONFIGS if setup.config in BJT_CONFIGS else FET_CONFIGS
+    net, _ = sn.netlist(("b", "c", "e"), configs.index(setup.config))
+    used = {e.name for e in net.elements if e.kind == "capacitor"}
+    return {name: c for name, c in sn.capacitors().items() if name in used}
 
 
 def _check_limit_pair(name: str, lo, hi, what: str, optional: bool = True) -> None:
@@ -366,11 +578,14 @@ class FetSpreadRanges:
     lambda_min, lambda_max : float or None
         Channel-length modulation, 1/V (``None``: none, ro infinite).
     tol : float
-        Tolerance of ``rdeg`` and ``rfb`` as a fraction (0.05 for 5 %).
+        Tolerance of ``rdeg``, ``rfb`` and the stage network's resistors as a fraction (0.05 for 5 %).
     samples : int
         Number of samples.
     seed : int or None
         Seed of the random generator (``None``: a fresh one, reported in the result).
+    ctol : float
+        Capacitor tolerance of the stage network's real capacitors, a fraction (as
+        :attr:`SpreadRanges.ctol`).
 
     Notes
     -----
@@ -392,8 +607,10 @@ class FetSpreadRanges:
     tol: float = 0.0
     samples: int = 10000
     seed: int | None = None
+    ctol: float = 0.0
 
     def __post_init__(self) -> None:
+        _check_ctol(self.ctol)
         for name in ("vp_min", "vp_max"):
             v = getattr(self, name)
             if isinstance(v, (int, float, np.number)) and not isinstance(v, bool) and v < 0:
@@ -453,7 +670,14 @@ class FetSpreadSetup:
     rdeg, rfb : float or None
         External source degeneration and drain-gate feedback resistors (ohm), toleranced.
     z0 : (float, float)
-        S reference resistances for K, ohm.
+        S reference resistances, ohm (K, the spread's one stability result, does not depend on them).
+    noise : bool
+        Also compute the noise results :data:`NOISE_RESULTS` (needs ``Re(rs) > 0``; channel
+        noise with the model's default gamma_n).
+    stage_network : StageNetwork or None
+        The stage as built (gate resistors, drain and source resistors, capacitors) in the AC
+        analysis, as ``gain`` analyses it (ID and VDS stay fixed: it does not set the bias).
+        Its resistors are toleranced under a FET's names (:data:`FET_NETWORK_NAMES`).
     """
 
     config: str = "cs"
@@ -476,6 +700,8 @@ class FetSpreadSetup:
     rdeg: float | None = None
     rfb: float | None = None
     z0: tuple[float, float] = (50.0, 50.0)
+    noise: bool = False
+    stage_network: StageNetwork | None = None
 
     def __post_init__(self) -> None:
         from .fetbias import FET_DEVICES
@@ -497,6 +723,7 @@ class FetSpreadSetup:
         if not (math.isfinite(self.freq) and self.freq >= 0):
             raise InputError(f"freq: expected a frequency >= 0 Hz, got {self.freq:g}")
         _check_terminations(self)
+        _check_stage_network(self)
 
     @property
     def is_jfet(self) -> bool:
@@ -505,8 +732,14 @@ class FetSpreadSetup:
 
     @property
     def resistors(self) -> dict[str, float]:
-        """Nominal values of the toleranced resistors, ohm (``rdeg``, ``rfb`` when present)."""
-        return _stage_resistors(self)
+        """Nominal values of the toleranced resistors, ohm: the stage network's under a FET's names
+        (:data:`FET_NETWORK_NAMES`), then ``rdeg``, ``rfb`` when present."""
+        return {FET_NETWORK_NAMES[k]: v for k, v in _network_resistors(self).items()} | _stage_resistors(self)
+
+    @property
+    def capacitors(self) -> dict[str, float]:
+        """As :attr:`SpreadSetup.capacitors`: the stage network's real capacitors in this configuration, F."""
+        return _network_capacitors(self)
 
     def describe(self, ranges: "FetSpreadRanges") -> dict:
         """As :meth:`SpreadSetup.describe`: the fixed ID/VDS and the FET limits of ``ranges``."""
@@ -516,6 +749,7 @@ class FetSpreadSetup:
             if name in lim:
                 rng[f"{name}_min"], rng[f"{name}_max"] = lim[name]
         rng["tol"] = ranges.tol * 100
+        rng["ctol"] = ranges.ctol * 100
         from .units import format_si
 
         unit = {"idss": "A", "vp": "V", "kn": "A/V²", "vov": "V", "lambda": "1/V"}
@@ -528,16 +762,18 @@ class FetSpreadSetup:
         text = ", ".join(parts) + " (uniform)"
         if ranges.tol > 0 and self.resistors:
             text += f", {', '.join(self.resistors)} ±{ranges.tol * 100:g} % (uniform)"
+        text += _ctol_text(self, ranges)
         from .units import format_si
 
         return {"bias": f"{self.device}, ID = {format_si(self.id, 'A')}, VDS = {format_si(self.vds, 'V')}",
-                "bias_json": {"network": None, "id": self.id, "vds": self.vds}, "ranges": rng,
+                "bias_json": {"network": None if self.stage_network is None else self.stage_network.bias,
+                              "id": self.id, "vds": self.vds}, "ranges": rng,
                 "limits_text": text}
 
     @property
     def results(self) -> tuple[str, ...]:
-        """The results of this spread: :data:`FET_RESULTS`."""
-        return FET_RESULTS
+        """The results of this spread: :data:`FET_RESULTS` (and :data:`NOISE_RESULTS` with ``noise``)."""
+        return FET_RESULTS + (NOISE_RESULTS if self.noise else ())
 
     def limits(self, ranges: FetSpreadRanges) -> dict[str, tuple[float, float]]:
         """The box of limits: ``idss``, ``vp`` (JFET) or ``kn`` / ``vov`` (MOSFET), ``lambda``
@@ -554,6 +790,8 @@ class FetSpreadSetup:
         out = {n: (float(getattr(ranges, f"{n}_min")), float(getattr(ranges, f"{n}_max"))) for n in names}
         if ranges.tol > 0:
             out |= {n: (1.0 - ranges.tol, 1.0 + ranges.tol) for n in self.resistors}
+        if ranges.ctol > 0:
+            out |= {n: (1.0 - ranges.ctol, 1.0 + ranges.ctol) for n in self.capacitors}
         return out
 
     def evaluate_points(self, points: dict[str, np.ndarray]) -> dict:
@@ -568,10 +806,10 @@ class FetSpreadSetup:
         -------
         dict of ndarray (N,)
             :data:`FET_RESULTS` (magnitudes; NaN where a value does not exist, e.g. ro or an
-            open impedance) and ``region`` (all 0: every sample is in saturation, checked by
-            :meth:`limits` over the whole box).
+            open impedance), with ``noise`` :data:`NOISE_RESULTS` (dB), and ``region`` (all 0:
+            every sample is in saturation, checked by :meth:`limits` over the whole box).
         """
-        from .analysis import stability_arrays_y, terminate_arrays_y
+        from .analysis import rollett_k_arrays_y, terminate_arrays_y
         from .fet import FetModel, fet_values
 
         n = np.asarray(next(iter(points.values()))).shape[0]
@@ -587,16 +825,20 @@ class FetSpreadSetup:
                          rg=self.rg, rdx=self.rdx, rsx=self.rsx, device=self.device)
         res = {name: nominal * np.asarray(points.get(name, 1.0), dtype=float)
                for name, nominal in self.resistors.items()}
-        stage = Stage(model, self.config, rdeg=res.get("rdeg", 0.0), rfb=res.get("rfb"))
+        built = None if self.stage_network is None else self.stage_network.with_resistors(
+            {k: res[v] for k, v in FET_NETWORK_NAMES.items() if v in res}).with_capacitors(
+            {name: c * np.asarray(points[name], dtype=float) for name, c in self.capacitors.items() if name in points})
+        stage = Stage(model, self.config, rdeg=res.get("rdeg", 0.0), rfb=res.get("rfb"), network=built)
         y = config_y(stage.indefinite_block(2 * math.pi * self.freq, n), self.config)
         term = terminate_arrays_y(y, self.rs, self.rl)
-        st = stability_arrays_y(y, self.z0)
         out = {name: np.abs(term[name]) for name in ("av", "avs", "ai", "zin", "zout")}
         out["gt_db"] = np.asarray(term["gt_db"], dtype=float)
-        out["k"] = np.asarray(st["k"], dtype=float)
+        out["k"] = rollett_k_arrays_y(y)
         out["gm"] = np.array(gm)
         out["ro"] = np.full(n, np.nan) if np.ndim(ro) == 0 else np.asarray(ro, dtype=float)
-        for name in FET_RESULTS:
+        if self.noise:
+            out["nf_db"], out["nfmin_db"] = _noise_figures(stage, self.freq, self.rs)
+        for name in self.results:
             out[name] = np.where(np.isfinite(out[name]), out[name], np.nan)
         out["region"] = np.zeros(n, dtype=np.int8)
         return out
@@ -629,6 +871,9 @@ class FetSpreadSetup:
         return {name: (np.full(n, lo) if lo == hi else rng.uniform(lo, hi, n))
                 for name, (lo, hi) in self.limits(ranges).items()}
 
+    def _draws_per_sample(self, ranges: FetSpreadRanges) -> int:
+        return sum(lo != hi for lo, hi in self.limits(ranges).values())  # one per array _draw draws
+
     def _evaluate_draw(self, draw) -> dict:
         return self.evaluate_points(draw)
 
@@ -638,17 +883,17 @@ class FetSpreadSetup:
         r = self.evaluate_points(pts)
         out = {}
         for i, label in enumerate(("min", "max", "nominal")):
-            d = {n: float(v[i]) for n, v in pts.items() if n not in self.resistors}
+            d = {n: float(v[i]) for n, v in pts.items() if n not in self.resistors and n not in self.capacitors}
             d["tol"] = float(pts[next(iter(self.resistors))][i] - 1.0) if ranges.tol > 0 and self.resistors else 0.0
-            for name in FET_RESULTS:
+            if ranges.ctol > 0 and self.capacitors:
+                d["ctol"] = float(pts[next(iter(self.capacitors))][i] - 1.0)
+            for name in self.results:
                 v = float(r[name][i])
                 d[name] = v if math.isfinite(v) else None
             out[label] = d
         return out
 
     def _worst_case(self, ranges: FetSpreadRanges) -> dict:
-        from .worstcase import worst_case
-
         return worst_case(self, ranges)
 
     _region_names = ("saturation",)
@@ -760,15 +1005,16 @@ def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] 
     temp : ndarray (N,)
         Temperature in K.
     factors : dict of str -> ndarray (N,)
-        Multipliers of the nominal resistors (keys of ``setup.resistors``); missing ones are 1.
+        Multipliers of the nominal resistors and capacitors (keys of ``setup.resistors`` and
+        ``setup.capacitors``); missing ones are 1.
 
     Returns
     -------
     dict of ndarray (N,)
-        :data:`RESULTS` (magnitudes, NaN where they do not exist), ``region`` (int8 codes into
+        ``setup.results`` (magnitudes, NaN where they do not exist), ``region`` (int8 codes into
         :data:`devmodels.dcbias.REGIONS`; code 3 for a negative C_pi) and ``beta`` used.
     """
-    from .analysis import stability_arrays_y, terminate_arrays_y
+    from .analysis import rollett_k_arrays_y, terminate_arrays_y
 
     beta_ref = np.asarray(beta_ref, dtype=float)
     temp = np.asarray(temp, dtype=float)
@@ -778,8 +1024,10 @@ def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] 
            for name, nominal in setup.resistors.items()}
     beta = np.broadcast_to(beta_at(temp, beta_ref, setup.beta_tc, setup.t_ref), (n,))
     vbe = np.broadcast_to(vbe_at(temp, setup.vbe, setup.vbe_tc, setup.t_ref), (n,))
+    # the stage network with the samples' resistors (its re: the sum of the two parts, when split)
+    built = None if setup.stage_network is None else _sampled_network(setup, res, factors)
     if setup.network is not None:
-        net = {k: res[k] for k in setup.network.resistors}
+        net = {k: res[k] if k in res else built.re for k in setup.network.resistors}
         op = solve_arrays(setup.network.kind, abs(setup.network.vcc), beta, vbe, vce_sat=setup.vce_sat, **net)
         ic, vce, power, region = op["ic"], op["vce"], op["power"], op["region"].copy()
     else:
@@ -793,7 +1041,7 @@ def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] 
     c_pi = np.broadcast_to(v["c_pi"], (n,))
     region = np.where((region == 0) & (c_pi < 0), 3, region).astype(np.int8)
     ok = region == 0
-    out = {name: np.full(n, np.nan) for name in RESULTS}
+    out = {name: np.full(n, np.nan) for name in setup.results}
     out["ic"], out["vce"], out["power"] = np.array(ic, dtype=float), np.array(vce, dtype=float), np.array(power, dtype=float)
     out["region"] = region
     out["beta"] = np.array(beta, dtype=float)
@@ -810,20 +1058,35 @@ def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] 
                      c_mu=setup.cmu, rb=setup.rb, r_mu=math.inf if setup.rmu is None else setup.rmu,
                      rcx=setup.rcx, rex=setup.rex, vt=pick(v["vt"]))
     rfb = res.get("rfb")
-    stage = Stage(model, setup.config, rdeg=pick(res.get("rdeg", 0.0)), rfb=None if rfb is None else pick(rfb))
+    if built is not None and not every:
+        built = _sampled_network(setup, res, factors, pick)
+    stage = Stage(model, setup.config, rdeg=pick(res.get("rdeg", 0.0)), rfb=None if rfb is None else pick(rfb),
+                  network=built)
     # the same netlist and engine as a frequency sweep, with the samples as the points
     y = config_y(stage.indefinite_block(2 * math.pi * setup.freq, count), setup.config)
     term = terminate_arrays_y(y, setup.rs, setup.rl)
-    st = stability_arrays_y(y, setup.z0)
     sel = slice(None) if every else ok
     for name in ("av", "avs", "ai", "zin", "zout"):
         out[name][sel] = np.abs(term[name])
     out["gt_db"][sel] = term["gt_db"]
-    out["k"][sel] = st["k"]
+    out["k"][sel] = rollett_k_arrays_y(y)
+    if setup.noise:  # the noise of the same stage (its netlist's noise sources), only when asked
+        out["nf_db"][sel], out["nfmin_db"][sel] = _noise_figures(stage, setup.freq, setup.rs)
     return out
 
 
-def _draw(rng: np.random.Generator, ranges: SpreadRanges, names, n: int):
+def _sampled_network(setup, res: dict, factors: dict, pick=None) -> StageNetwork:
+    """The setup's stage network at the samples' resistors ``res`` (ohm) and capacitor multipliers
+    (the keys of ``setup.capacitors`` in ``factors``); ``pick`` selects the samples kept."""
+    caps = {name: c * np.asarray(factors[name], dtype=float) for name, c in setup.capacitors.items()
+            if name in factors} if factors else {}
+    if pick is not None:
+        res = {k: pick(x) for k, x in res.items()}
+        caps = {k: pick(x) for k, x in caps.items()}
+    return setup.stage_network.with_resistors(res).with_capacitors(caps)
+
+
+def _draw(rng: np.random.Generator, ranges: SpreadRanges, names, n: int, caps=()):
     if ranges.beta_min == ranges.beta_max:
         beta = np.full(n, float(ranges.beta_min))
     elif ranges.beta_typ is not None:
@@ -832,7 +1095,14 @@ def _draw(rng: np.random.Generator, ranges: SpreadRanges, names, n: int):
         beta = rng.uniform(ranges.beta_min, ranges.beta_max, n)
     temp = rng.uniform(ranges.temp_min, ranges.temp_max, n)
     factors = {name: rng.uniform(1 - ranges.tol, 1 + ranges.tol, n) for name in names}
+    factors |= {name: rng.uniform(1 - ranges.ctol, 1 + ranges.ctol, n) for name in caps}  # after: same draws
     return beta, temp, factors
+
+
+def _draw_count(ranges: SpreadRanges, names, caps=()) -> int:
+    """Random numbers :func:`_draw` takes per sample (one per array it draws: numpy's uniform and
+    triangular take one 64-bit draw per value)."""
+    return int(ranges.beta_min != ranges.beta_max) + 1 + len(names) + len(caps)
 
 
 def _stats(v: np.ndarray) -> dict | None:
@@ -849,6 +1119,120 @@ def _stats(v: np.ndarray) -> dict | None:
     return {name: float(x) for name, x in zip(QUANTILES, q)}
 
 
+@dataclass(frozen=True, slots=True)
+class _Job:
+    """What evaluating chunks of a run takes (sent to the worker processes, so it pickles)."""
+
+    setup: object
+    ranges: object
+    seed: int
+    chunk: int
+    specs: tuple
+    summary: bool  # feed a streaming summary (False: exact statistics from the kept values)
+    keep: bool  # return the per-sample values
+
+    def draw(self, k: int):
+        """The samples of chunk ``k``: the run's stream (``default_rng(seed)``) advanced past the
+        draws of every earlier sample, so they are those of one generator drawing chunk after
+        chunk, and depend on the seed and ``k`` alone (not on which process draws them)."""
+        start = k * self.chunk
+        bits = np.random.PCG64(self.seed)
+        bits.advance(start * self.setup._draws_per_sample(self.ranges))
+        m = min(self.chunk, int(self.ranges.samples) - start)
+        return self.setup._draw(np.random.Generator(bits), self.ranges, m)
+
+
+class _Tally:
+    """What the chunks of a run add up to: the streaming summary (when the job keeps one), the
+    samples per region code, those passing every specification and failing each, and the
+    largest value of each result the ratings are checked against.  Tallies of different chunks
+    merge exactly, in any order, into the tally of all of them (:meth:`merge`)."""
+
+    def __init__(self, job: _Job, scales: dict | None = None):
+        self.summary = StreamingSummary(job.setup.results, scales=scales) if job.summary else None
+        self.samples = 0
+        self.regions = np.zeros(4, dtype=np.int64)
+        self.passed = 0
+        self.fails = [0] * len(job.specs)
+        self.maxima = dict.fromkeys(job.setup._track_max, -math.inf)
+
+    def add(self, r: dict, specs) -> None:
+        """Add one chunk's results ``r`` (:func:`evaluate`'s dict), checked against ``specs``."""
+        from .worstcase import check_specs
+
+        m = r["region"].size
+        self.samples += m
+        if self.summary is not None:
+            self.summary.update({name: r[name] for name in self.summary.results})
+        self.regions += np.bincount(r["region"], minlength=4)[:4]
+        masks = [check_specs(r, [spec])[0] for spec in specs]  # NaN fails (check_specs' rule)
+        self.fails = [a + int(m - np.count_nonzero(ok)) for a, ok in zip(self.fails, masks)]
+        self.passed += int(np.count_nonzero(np.logical_and.reduce(masks))) if masks else m
+        for name in self.maxima:
+            v = r[name][np.isfinite(r[name])]
+            if v.size:
+                self.maxima[name] = max(self.maxima[name], float(v.max()))
+
+    def merge(self, other: "_Tally") -> None:
+        """Add the tally of other chunks (counts add; maxima and the summary merge exactly)."""
+        if self.summary is not None:
+            self.summary.merge(other.summary)
+        self.samples += other.samples
+        self.regions += other.regions
+        self.passed += other.passed
+        self.fails = [a + b for a, b in zip(self.fails, other.fails)]
+        self.maxima = {k: max(v, other.maxima[k]) for k, v in self.maxima.items()}
+
+
+def _run_task(job: _Job, chunks: range, scales: dict | None = None) -> tuple[_Tally, dict | None]:
+    """Evaluate the consecutive chunks ``chunks`` of a run (what a worker process runs).
+
+    Returns their tally (``scales`` fixes its summary's grid; ``None``: the first chunk sets it) and,
+    when the job keeps them, their per-sample values (result name -> array), else ``None``.
+    """
+    tally = _Tally(job, scales)
+    kept = []
+    for k in chunks:
+        r = job.setup._evaluate_draw(job.draw(k))
+        tally.add(r, job.specs)
+        if job.keep:
+            kept.append([r[name] for name in job.setup.results])
+    if not job.keep:
+        return tally, None
+    return tally, {name: np.concatenate([c[i] for c in kept]) for i, name in enumerate(job.setup.results)}
+
+
+def _grid_scales(summary: StreamingSummary, corners: dict) -> dict[str, float]:
+    """The scale of each result's streaming grid, fixed before the chunks after the first: the one
+    the first chunk set (:func:`devmodels.worstcase.grid_scale`), else the corners' (a result
+    without a non-zero value in the first chunk), else 1 in the result's unit."""
+    out = {}
+    for name, s in summary.scales.items():
+        if s is None:
+            s = grid_scale([c[name] for c in corners.values() if c.get(name) is not None])
+        out[name] = 1.0 if s is None else s
+    return out
+
+
+def _in_daemon() -> bool:
+    """Whether this is a daemonic process (which multiprocessing does not let start processes)."""
+    import multiprocessing
+
+    return bool(multiprocessing.current_process().daemon)
+
+
+def _process_pool(workers: int):
+    """A pool of worker processes.  Forked on Linux (nothing to import again; a fork takes a few
+    milliseconds); elsewhere the platform's default start method (spawn on Windows and macOS:
+    each worker imports devmodels, and a script calling :func:`run_spread` there needs the usual
+    ``if __name__ == "__main__":`` guard of multiprocessing)."""
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    method = "fork" if sys.platform.startswith("linux") else None
+    return ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context(method))
+
+
 def run_spread(setup, ranges, *, chunk: int = CHUNK, workers: int = WORKERS,
                progress: Callable[[int, int], None] | None = None, specs=(), keep_values: bool | None = None,
                exact_stats: bool | None = None, worst: bool = True) -> SpreadResult:
@@ -863,9 +1247,12 @@ def run_spread(setup, ranges, *, chunk: int = CHUNK, workers: int = WORKERS,
     chunk : int
         Samples per chunk.
     workers : int
-        Threads evaluating chunks (the numbers do not depend on it).
+        Worker processes evaluating the chunks after the first (when there are at least
+        :data:`PROCESS_MIN_CHUNKS` of them); 1: all in this process.  The numbers do not
+        depend on it.
     progress : callable(done, total), optional
-        Called after each chunk.
+        Called after each chunk (after each task of :data:`TASK_CHUNKS` chunks when worker
+        processes evaluate them), in this process.
     specs : iterable of str or (name, op, value)
         Specifications (:func:`devmodels.worstcase.parse_spec`, e.g. ``"av>=40"``); each
         sample is checked as it streams and the yield is reported.
@@ -882,11 +1269,13 @@ def run_spread(setup, ranges, *, chunk: int = CHUNK, workers: int = WORKERS,
     -------
     SpreadResult
     """
-    from .worstcase import StreamingSummary, check_specs, parse_spec, spec_text, worst_case_pass, yield_fraction
+    from .worstcase import parse_spec, spec_text, worst_case_pass, yield_fraction
 
     setup._check_ranges(ranges)
     if isinstance(chunk, bool) or not isinstance(chunk, (int, np.integer)) or chunk < 1:
         raise InputError(f"chunk: expected a positive number of samples, got {chunk}")
+    if isinstance(workers, bool) or not isinstance(workers, (int, np.integer)) or workers < 1:
+        raise InputError(f"workers: expected a whole number of processes >= 1, got {workers!r}")
     results = setup.results
     parsed = []
     for sp in specs:
@@ -900,65 +1289,48 @@ def run_spread(setup, ranges, *, chunk: int = CHUNK, workers: int = WORKERS,
             raise InputError(f"spec: {name!r} is not a result; expected one of {', '.join(results)}")
         parsed.append((name, op, float(x)))
     seed = ranges.seed if ranges.seed is not None else int(np.random.SeedSequence().entropy % 2**63)
-    rng = np.random.default_rng(seed)
     n = int(ranges.samples)
     keep = n <= KEEP_VALUES_MAX if keep_values is None else bool(keep_values)
     exact = keep if exact_stats is None else bool(exact_stats)
     if exact and not keep:
         raise InputError("exact_stats: exact percentiles need the per-sample values; set keep_values=True")
     values = {name: np.empty(n) for name in results} if keep else None
-    summary = None if exact else StreamingSummary(results)
-    state = {"counts": np.zeros(4, dtype=np.int64), "passed": 0, "fails": [0] * len(parsed),
-             "max": dict.fromkeys(setup._track_max, -math.inf)}
-    lock = threading.Lock()
+    job = _Job(setup, ranges, int(seed), int(chunk), tuple(parsed), summary=not exact, keep=keep)
+    corners = setup._corners(ranges)
+    tally = _Tally(job)
 
-    def work(start, draw):
-        r = setup._evaluate_draw(draw)
-        m = r["region"].size
+    def take(chunks: range, part: _Tally, kept: dict | None) -> None:
+        tally.merge(part)
         if values is not None:
-            for name in results:
-                values[name][start:start + m] = r[name]
-        chunk_max = {}
-        for name in setup._track_max:
-            v = r[name][np.isfinite(r[name])]
-            chunk_max[name] = float(v.max()) if v.size else -math.inf
-        masks = [check_specs(r, [spec])[0] for spec in parsed]  # NaN fails (check_specs' rule)
-        fails = [int(m - np.count_nonzero(ok)) for ok in masks]
-        passed = m
-        if masks:
-            passed = int(np.count_nonzero(np.logical_and.reduce(masks)))
-        counts = np.bincount(r["region"], minlength=4)
-        with lock:  # these counts do not depend on the order in which chunks finish
-            state["counts"] += counts[:4]
-            state["passed"] += passed
-            state["fails"] = [a + b for a, b in zip(state["fails"], fails)]
-            for name, v in chunk_max.items():
-                state["max"][name] = max(state["max"][name], v)
-        return m, ({name: r[name] for name in results} if summary is not None else None)
+            start = chunks.start * chunk
+            for name, v in values.items():
+                v[start:start + part.samples] = kept[name]
+        if progress is not None:
+            progress(tally.samples, n)
 
-    # Samples are drawn here, in order (so a seed gives the same numbers with any number of
-    # workers); chunks are evaluated by a few threads (numpy releases the GIL in array
-    # arithmetic), with at most two chunks per worker in flight to bound the memory.  The
-    # streaming summary is fed here too, in chunk order: its grid is set by the first chunk.
-    workers = max(1, min(workers, (n + chunk - 1) // chunk))
-    done = 0
-    with ThreadPoolExecutor(max_workers=workers) as pool:
-        pending = deque()
-        for start in range(0, n, chunk):
-            pending.append(pool.submit(work, start, setup._draw(rng, ranges, min(chunk, n - start))))
-            while len(pending) > 2 * workers or (pending and start + chunk >= n):
-                m, part = pending.popleft().result()
-                if part is not None:
-                    summary.update(part)
-                done += m
-                if progress is not None:
-                    progress(done, n)
-        if exact:
-            stats = dict(zip(results, pool.map(_stats, (values[name] for name in results))))
+    # The first chunk here: it sets the grid of the streaming summary, which every other chunk
+    # shares (so that summaries of any chunks merge exactly).  The others go, a few chunks per
+    # task, to worker processes (each task returns its tally, a few hundred kilobytes, and its
+    # values only when they are kept), or stay here chunk by chunk for a small run or one
+    # worker; tallies merge in any order to the same numbers, and a chunk's samples depend on
+    # the seed and its index alone.
+    take(range(1), *_run_task(job, range(1)))
+    scales = None if exact else _grid_scales(tally.summary, corners)
+    rest = range(1, -(-n // chunk))
+    # (a daemonic process, such as a multiprocessing.Pool worker, may not start processes)
+    pooled = workers > 1 and len(rest) >= PROCESS_MIN_CHUNKS and not _in_daemon()
+    per = max(1, min(TASK_CHUNKS, len(rest) // (8 * workers))) if pooled else 1
+    tasks = [rest[i:i + per] for i in range(0, len(rest), per)]
+    with _process_pool(min(int(workers), len(tasks))) if pooled else contextlib.nullcontext() as pool:
+        parts = (pool.map if pooled else map)(_run_task, [job] * len(tasks), tasks, [scales] * len(tasks))
+        for chunks, (part, kept) in zip(tasks, parts):
+            take(chunks, part, kept)
     if exact:
+        stats = {name: _stats(values[name]) for name in results}
         accuracy = {"method": "exact", "rel_width": 0.0,
                     "bounds": {r: (None if stats[r] is None else dict.fromkeys(QUANTILES, 0.0)) for r in results}}
     else:
+        summary = tally.summary
         stats = summary.stats()
         bounds = {}
         for r in results:
@@ -966,22 +1338,22 @@ def run_spread(setup, ranges, *, chunk: int = CHUNK, workers: int = WORKERS,
             bounds[r] = None if st is None else {q: (0.0 if q in ("min", "max") else summary.error_bound(r, v))
                                                  for q, v in st.items()}
         accuracy = {"method": "streaming", "rel_width": summary.rel_width, "bounds": bounds}
-    counts = state["counts"]
+    counts = tally.regions
     regions = {name: int(counts[i]) for i, name in enumerate(setup._region_names)}
-    warnings = setup._warnings(n, counts, state["max"])
+    warnings = setup._warnings(n, counts, tally.maxima)
     worst_res = setup._worst_case(ranges) if worst else None
     if worst_res is not None:
         warnings += _outside_worst(stats, worst_res)
     yld = None
     if parsed:
-        frac, (lo, hi) = yield_fraction(int(state["passed"]), n)
+        frac, (lo, hi) = yield_fraction(tally.passed, n)
         texts = [spec_text(sp) for sp in parsed]
-        k = int(np.argmax(state["fails"]))
+        k = int(np.argmax(tally.fails))
         yld = {"fraction": frac, "ci95": [lo, hi], "specs": texts,
                "worst_case_pass": None if worst_res is None else bool(worst_case_pass(worst_res, parsed)),
-               "most_failed": texts[k] if state["fails"][k] > 0 else None,
-               "passed": int(state["passed"]), "failed_by": dict(zip(texts, state["fails"]))}
-    return SpreadResult(samples=n, seed=seed, values=values, stats=stats, corners=setup._corners(ranges),
+               "most_failed": texts[k] if tally.fails[k] > 0 else None,
+               "passed": tally.passed, "failed_by": dict(zip(texts, tally.fails))}
+    return SpreadResult(samples=n, seed=seed, values=values, stats=stats, corners=corners,
                         regions=regions, setup=setup, ranges=ranges, warnings=tuple(warnings), worst=worst_res,
                         yield_=yld, stats_accuracy=accuracy)
 
@@ -1007,12 +1379,16 @@ def _corners(setup: SpreadSetup, ranges: SpreadRanges, names) -> dict:
     beta = np.array([ranges.beta_min, ranges.beta_max, beta_nom])
     temp = np.array([ranges.temp_min, ranges.temp_max, 0.5 * (ranges.temp_min + ranges.temp_max)])
     f = np.array([1 - ranges.tol, 1 + ranges.tol, 1.0])
-    r = evaluate(setup, beta, temp, {name: f for name in names})
+    fc = np.array([1 - ranges.ctol, 1 + ranges.ctol, 1.0])
+    caps = list(setup.capacitors) if ranges.ctol > 0 else []
+    r = evaluate(setup, beta, temp, {name: f for name in names} | {name: fc for name in caps})
     out = {}
     for i, label in enumerate(("min", "max", "nominal")):
         d = {"beta": float(beta[i]), "temp": float(temp[i]), "tol": float(f[i] - 1.0),
              "region": REGIONS[r["region"][i]] if r["region"][i] < 3 else "active (no model: C_pi < 0)"}
-        for name in RESULTS:
+        if caps:
+            d["ctol"] = float(fc[i] - 1.0)
+        for name in setup.results:
             v = float(r[name][i])
             d[name] = v if math.isfinite(v) else None
         out[label] = d

@@ -3,8 +3,9 @@ r"""Worst case over a box of limits, yield against specifications, streaming qua
 **Worst case.**  The limits of a spread (:mod:`devmodels.spread`) form a box: beta between
 ``beta_min`` and ``beta_max``, the temperature between ``temp_min`` and ``temp_max`` and
 each toleranced resistor between :math:`1 - tol` and :math:`1 + tol` times its nominal
-value (a FET's box: IDSS and VP, or kn or Vov, lambda and the resistors; the setup names
-its own limits, :func:`box_limits`).  :func:`worst_case` evaluates every vertex of the box
+value, each toleranced capacitor of the stage network within :math:`1 \pm ctol` (a FET's
+box: IDSS and VP, or kn or Vov, lambda, the resistors and capacitors; the setup names its own
+limits, :func:`box_limits`).  :func:`worst_case` evaluates every vertex of the box
 (:math:`2^n` points) together with seven points inside every edge (at 1/8 .. 7/8) and the
 centre, all in one call of the setup's ``evaluate_points``.  A result whose values along
 every edge are monotonic (the nine points of each edge in order, within a relative 1e-9)
@@ -30,16 +31,24 @@ law of succession, and statistical inference", J. Am. Stat. Assoc. 22 (1927) 209
 
 **Streaming quantiles.**  :class:`StreamingSummary` keeps, per result, a histogram on the
 grid :math:`u = \operatorname{asinh}(v/s)` with bins of width :math:`w` (default
-:data:`REL_WIDTH` = 1e-4) and the exact minimum and maximum.  The scale :math:`s` is a
-hundredth of the smallest non-zero magnitude of the first chunk that has one, so the grid
-is logarithmic (relative bin width :math:`w`) for magnitudes above :math:`100 s` and linear
-(absolute width about :math:`w s`) near zero, and handles signs and zeros.  A quantile is
-the interpolation of numpy's default ('linear') between two order statistics, each taken
-at the centre of its bin (the minimum and maximum exactly), so its error is at most
-:math:`\frac{w}{2}\sqrt{v^2+s^2}\,e^{w}` (:meth:`StreamingSummary.error_bound` states
-:math:`w\sqrt{v^2+s^2}`, with margin).  Memory depends on the spread of the values, not on
-the number of samples (about 23 000 bins per decade at 1e-4); beyond ``max_bins`` bins per
-result the bins are merged in pairs (the width doubles, and so does the bound).
+:data:`REL_WIDTH` = 1e-4) and the exact minimum and maximum.  The scale :math:`s` is given
+(``scales``) or else a hundredth of the smallest non-zero magnitude of the first chunk that
+has one (:func:`grid_scale`), so the grid is logarithmic (relative bin width :math:`w`) for
+magnitudes above :math:`100 s` and linear (absolute width about :math:`w s`) near zero, and
+handles signs and zeros.  A quantile is the interpolation of numpy's default ('linear')
+between two order statistics, each taken at the centre of its bin (the minimum and maximum
+exactly), so its error is at most :math:`\frac{w}{2}\sqrt{v^2+s^2}\,e^{w}`
+(:meth:`StreamingSummary.error_bound` states :math:`w\sqrt{v^2+s^2}`, with margin).  Memory
+depends on the spread of the values, not on the number of samples (about 23 000 bins per
+decade at 1e-4); beyond ``max_bins`` occupied bins per result the bins are merged in pairs
+(bin :math:`i` into :math:`\lfloor i/2 \rfloor`; the width doubles, and so does the bound).
+
+**Merging.**  The bin edges are fixed by the grid (:math:`s`, :math:`w`), not by the order of
+the data, and bins are merged in pairs only as far as the range of occupied bins requires.  So
+two summaries on the same grid (the same scales, ``rel_width`` and ``max_bins``) merge exactly
+(:meth:`StreamingSummary.merge`: counts add, minimum and maximum are exact): the result is the
+summary one would have of all the values of both, in any order, and separate processes can
+each summarise part of the samples.
 """
 
 from __future__ import annotations
@@ -53,8 +62,22 @@ import numpy as np
 
 from .exceptions import InputError
 
-__all__ = ["vertices", "worst_case", "box_limits", "yield_fraction", "parse_spec", "check_specs",
-           "worst_case_pass", "spec_text", "StreamingSummary", "GRID", "REL_WIDTH", "Z95", "SPEC_UNITS"]
+__all__ = ["vertices", "worst_case", "box_limits", "yield_fraction", "parse_spec", "collect_specs", "check_specs",
+           "worst_case_pass", "spec_text", "StreamingSummary", "grid_scale", "GRID", "REL_WIDTH", "Z95",
+           "SPEC_UNITS", "RESULTS", "FET_RESULTS", "NOISE_RESULTS", "QUANTILES"]
+
+# The vocabulary of a spread's results, here beside their units (SPEC_UNITS) so that this module
+# needs nothing from devmodels.spread (which computes them, imports this module and re-exports
+# these names): the import goes one way only.
+#: Results of a bipolar spread (magnitudes, except gt_db in dB and k).
+RESULTS: tuple[str, ...] = ("av", "avs", "ai", "zin", "zout", "gt_db", "k", "ic", "vce", "power")
+#: Results of a FET spread (magnitudes, except gt_db in dB and k; gm in S, ro in ohm).
+FET_RESULTS: tuple[str, ...] = ("av", "avs", "ai", "zin", "zout", "gt_db", "k", "gm", "ro")
+#: Noise results, added to either list when a spread's setup has ``noise`` set: the noise figure at
+#: the source impedance and the minimum noise figure, dB (:mod:`devmodels.noise`).
+NOISE_RESULTS: tuple[str, ...] = ("nf_db", "nfmin_db")
+#: Statistics reported for each result: name -> percentile.
+QUANTILES: dict[str, float] = {"min": 0.0, "p5": 5.0, "p50": 50.0, "p95": 95.0, "max": 100.0}
 
 #: Grid points per limit in each step of the local search.
 GRID = 9
@@ -107,7 +130,7 @@ def vertices(limits: Mapping[str, tuple[float, float]]) -> dict[str, np.ndarray]
 
 
 def box_limits(setup, ranges) -> dict[str, tuple[float, float]]:
-    """The box of a spread's limits: ``setup.limits(ranges)``.
+    """The box of a spread's limits: ``setup.limits(ranges)`` (each setup names its own limits).
 
     Parameters
     ----------
@@ -124,20 +147,7 @@ def box_limits(setup, ranges) -> dict[str, tuple[float, float]]:
         keys of :meth:`devmodels.spread.FetSpreadSetup.limits` (``idss``, ``vp`` or ``kn`` /
         ``vov``, ``lambda``, resistor multipliers).
     """
-    from .spread import SpreadSetup
-
-    if isinstance(setup, SpreadSetup):  # SpreadSetup.limits() is this function's bipolar branch
-        return _bipolar_box(setup, ranges)
     return setup.limits(ranges)
-
-
-def _bipolar_box(setup, ranges) -> dict[str, tuple[float, float]]:
-    out = {"beta": (float(ranges.beta_min), float(ranges.beta_max)),
-           "temp": (float(ranges.temp_min), float(ranges.temp_max))}
-    if ranges.tol > 0:
-        for name in setup.resistors:
-            out[name] = (1.0 - ranges.tol, 1.0 + ranges.tol)
-    return out
 
 
 def _evaluate(setup, points: Mapping[str, np.ndarray]) -> dict:
@@ -189,13 +199,11 @@ def worst_case(setup, ranges, *, results: Iterable[str] | None = None, grid: int
     dict of str -> dict
         For each result: ``worst_min``, ``worst_max`` (floats, or ``None`` where the result exists
         at no evaluated point), ``worst_min_at``, ``worst_max_at`` (dicts limit -> ``'low'``,
-        ``'high'`` or the value inside the limits: beta, K, or ohm for a resistor),
+        ``'high'`` or the value inside the limits: beta, K, ohm for a resistor, F for a capacitor),
         ``method`` (``'vertices'`` or ``'vertices+search'``) and ``undefined_vertices`` (how many
         vertices have no value: saturation, cutoff or no small-signal model there).
     """
-    from .spread import RESULTS
-
-    known = tuple(getattr(setup, "results", RESULTS))
+    known = tuple(setup.results)
     names_r = list(known if results is None else results)
     for r in names_r:
         if r not in known:
@@ -203,7 +211,7 @@ def worst_case(setup, ranges, *, results: Iterable[str] | None = None, grid: int
     if isinstance(grid, bool) or not isinstance(grid, int) or grid < 3:
         raise InputError(f"grid: expected a whole number >= 3, got {grid!r}")
     limits = box_limits(setup, ranges)
-    nominal = dict(setup.resistors)
+    nominal = dict(setup.resistors) | dict(getattr(setup, "capacitors", {}))  # multiplier limits -> ohm, F
     dims = list(limits)
     lo = np.array([limits[d][0] for d in dims])
     hi = np.array([limits[d][1] for d in dims])
@@ -363,8 +371,11 @@ def yield_fraction(passed_count: int, n: int, z: float = Z95) -> tuple[float, tu
 _SPEC = re.compile(r"^\s*([A-Za-z_][A-Za-z0-9_]*)\s*([<>=!]*)\s*(.*?)\s*$", re.S)
 
 
-def parse_spec(text: str, results: Iterable[str] | None = None) -> tuple[str, str, float]:
+def parse_spec(text: str, results: Iterable[str] | None = None, *, label: str = "spec") -> tuple[str, str, float]:
     """Read a specification ``RESULT OP VALUE`` (``av>=40``, ``zin >= 1k``, ``f_low<20Hz``).
+
+    The one reader of a specification: ``--spec`` texts and the bias file's ``[spec]`` table
+    (:func:`collect_specs`) both come here.
 
     Parameters
     ----------
@@ -373,35 +384,118 @@ def parse_spec(text: str, results: Iterable[str] | None = None) -> tuple[str, st
         optional SI prefix and the result's unit where it has one (:data:`SPEC_UNITS`: ohm for
         ``zin``/``zout``/``ro``, S for ``gm``, Hz for ``f_low``/``bandwidth``, A, V, W for ``ic``,
         ``vce``, ``power``);
-        ``gt_db`` takes an optional ``dB``.
+        ``gt_db``, ``nf_db`` and ``nfmin_db`` take an optional ``dB``.
     results : iterable of str, optional
-        The names a specification may use (default :data:`devmodels.spread.RESULTS`).
+        The names a specification may use (default :data:`RESULTS`, a bipolar spread's).
+    label : str
+        The name error messages start with (``spec``; ``spec.av`` for the ``[spec]`` table's key
+        ``av``).
 
     Returns
     -------
     (str, str, float)
         Result name, operator, value in SI units.
     """
-    from .spread import RESULTS
     from .units import parse_quantity, shown
 
     names = tuple(RESULTS if results is None else results)
     if not isinstance(text, str):
-        raise InputError(f"spec: expected text such as 'av>=40', got {text!r}")
+        raise InputError(f"{label}: expected text such as 'av>=40', got {text!r}")
     m = _SPEC.match(text)
     if not m or not m.group(1):
-        raise InputError(f"spec: cannot read {shown(text)}; expected RESULT>=VALUE or RESULT<=VALUE (e.g. av>=40)")
+        raise InputError(f"{label}: cannot read {shown(text)}; expected RESULT>=VALUE or RESULT<=VALUE (e.g. av>=40)")
     name, op, rest = m.groups()
     if name not in names:
-        raise InputError(f"spec: {name!r} is not a result; expected one of {', '.join(names)}")
+        from .schema import nearest
+
+        near = nearest(name, names)
+        raise InputError(f"{label}: {name!r} is not a result; expected one of {', '.join(names)}"
+                         + (f" (did you mean {near}?)" if near else ""))
     if op not in _OPS:
-        raise InputError(f"spec: {shown(text)} has the operator {op!r}; expected one of "
+        raise InputError(f"{label}: {shown(text)} has the operator {op!r}; expected one of "
                          f"{', '.join(_OPS)} (e.g. {name}>=...)" if op else
-                         f"spec: {shown(text)} has no comparison; expected one of {', '.join(_OPS)} (e.g. {name}>=...)")
-    if name == "gt_db" and rest.endswith("dB"):
+                         f"{label}: {shown(text)} has no comparison; expected one of {', '.join(_OPS)} "
+                         f"(e.g. {name}>=...)")
+    if rest.endswith("dB") and name in _DB_RESULTS:
         rest = rest[:-2].rstrip()
-    value = parse_quantity(rest, SPEC_UNITS.get(name, ""), f"spec {name}")
+    value = parse_quantity(rest, SPEC_UNITS.get(name, ""), f"spec {name}" if label == "spec" else label)
     return name, op, value
+
+
+#: Results in dB: a value in a specification may end in ``dB``.
+_DB_RESULTS = ("gt_db", "nf_db", "nfmin_db")
+
+
+def collect_specs(options: Iterable = (), table: Mapping | None = None,
+                  results: Iterable[str] | None = None) -> list[tuple[str, str, float]]:
+    """The specifications of a run: a bias file's ``[spec]`` table and the ``--spec`` texts.
+
+    The table maps a result name to a comparison and a value, or to a list of them::
+
+        [spec]
+        av = ">=40"
+        zin = ">=1k"
+        nf_db = "<=3dB"
+        ic = [">=0.8mA", "<=1.2mA"]
+
+    Each entry is read as the text ``NAME`` + ``COMPARISON`` by :func:`parse_spec` (the one
+    reader), so the table accepts exactly what ``--spec`` accepts.  **Rule of the merge:** an
+    option adds to the table, except that it *replaces* the table's limits on the same result
+    in the same direction (a lower limit ``>=``/``>`` replaces the table's lower limits of that
+    result, an upper limit ``<=``/``<`` its upper limits).  The table's remaining limits come
+    first, then the options, in the order given.
+
+    Parameters
+    ----------
+    options : iterable of str or (name, op, value)
+        Specifications as ``--spec`` gives them (``"av>=40"``) or already read.
+    table : mapping of str -> str or list of str, optional
+        The ``[spec]`` table (:func:`devmodels.biasfile.load_bias_file`), result name -> text.
+    results : iterable of str, optional
+        The names a specification may use (default :data:`RESULTS`, a bipolar spread's).
+
+    Returns
+    -------
+    list of (str, str, float)
+        Result name, operator, value in SI units.
+
+    Raises
+    ------
+    InputError
+        A name that is not a result, a bad comparison or value; the message starts with
+        ``spec.NAME`` for a table entry and ``spec`` for an option.
+    """
+    from .units import shown
+
+    names = None if results is None else tuple(results)
+    from_table = []
+    for key, value in (table or {}).items():
+        label = f"spec.{key}"
+        texts = value if isinstance(value, (list, tuple)) else [value]
+        if not texts:
+            raise InputError(f"{label}: expected a comparison and a value such as '>=40', got an empty list")
+        for text in texts:
+            if not isinstance(text, str):
+                raise InputError(f"{label}: expected text such as '>=40' (or a list of them), got {text!r}")
+            body = text.strip()
+            if not body or body[0] not in "<>=!":
+                raise InputError(f"{label}: expected a comparison and a value such as '>=40' (the key names the "
+                                 f"result), got {shown(text)}")
+            from_table.append(parse_spec(key + body, names, label=label))
+    given = []
+    for sp in options:
+        if isinstance(sp, str):
+            given.append(parse_spec(sp, names))
+        elif isinstance(sp, (tuple, list)) and len(sp) == 3:
+            given.append((sp[0], sp[1], float(sp[2])))
+        else:
+            raise InputError(f"spec: expected text such as 'av>=40' or (name, op, value), got {sp!r}")
+
+    def side(op: str) -> str:
+        return "lower" if op in (">=", ">") else "upper"
+
+    replaced = {(name, side(op)) for name, op, _ in given}
+    return [sp for sp in from_table if (sp[0], side(sp[1])) not in replaced] + given
 
 
 def spec_text(spec: tuple[str, str, float]) -> str:
@@ -491,14 +585,43 @@ def worst_case_pass(worst: Mapping[str, Mapping], specs) -> bool:
 
 
 # --- streaming quantiles ------------------------------------------------------------------------
+def grid_scale(values) -> float | None:
+    """The scale of :class:`StreamingSummary`'s grid set by some values: a hundredth of their
+    smallest non-zero finite magnitude (module docstring).
+
+    Parameters
+    ----------
+    values : array_like
+        Values in the result's unit (NaN and infinities are ignored).
+
+    Returns
+    -------
+    float or None
+        The scale, in the values' unit; ``None`` when there is no non-zero finite value.
+    """
+    v = np.abs(np.asarray(values, dtype=float).ravel())
+    v = v[np.isfinite(v) & (v != 0)]
+    return 0.01 * float(v.min()) if v.size else None
+
+
+def _halve(counts: np.ndarray, offset: int) -> tuple[np.ndarray, int]:
+    """Bins merged in pairs: bin ``i`` (absolute index) goes to ``i // 2``, so merging depends on
+    the grid alone (a bin of width 2w is the same pair of width-w bins whoever merges it)."""
+    if not counts.size:
+        return counts, offset
+    new = (np.arange(counts.size, dtype=np.int64) + offset) // 2
+    base = int(new[0])
+    return np.bincount(new - base, weights=counts, minlength=1).astype(np.int64), base
+
+
 class _Hist:
     """Histogram of one result on the asinh grid (see the module docstring)."""
 
     __slots__ = ("w", "s", "counts", "offset", "n", "nan", "vmin", "vmax", "_cum", "max_bins")
 
-    def __init__(self, w: float, max_bins: int):
+    def __init__(self, w: float, max_bins: int, s: float | None = None):
         self.w = w
-        self.s: float | None = None
+        self.s: float | None = s
         self.counts = np.zeros(0, dtype=np.int64)
         self.offset = 0
         self.n = 0
@@ -514,15 +637,47 @@ class _Hist:
         return np.floor(np.arcsinh(v / self.s) / self.w).astype(np.int64)
 
     def _coarsen(self) -> None:
-        if not self.counts.size:
-            self.w *= 2.0
-            return
-        idx = np.arange(self.counts.size, dtype=np.int64) + self.offset
-        new = idx // 2
-        base = int(new[0]) if new.size else 0
-        self.counts = np.bincount(new - base, weights=self.counts, minlength=1).astype(np.int64)
-        self.offset = base
+        self.counts, self.offset = _halve(self.counts, self.offset)
         self.w *= 2.0
+
+    def _occupied(self) -> tuple[int, int] | None:
+        """First and last bin holding a count (the kept range may have empty bins at its ends)."""
+        nz = np.flatnonzero(self.counts)
+        return (self.offset + int(nz[0]), self.offset + int(nz[-1])) if nz.size else None
+
+    def _add(self, counts: np.ndarray, offset: int) -> None:
+        """Add counts of bins ``offset ..`` (the same bin width), growing the kept range as needed
+        (with a margin, so that a range growing chunk by chunk is not copied every time)."""
+        lo, hi = offset, offset + counts.size - 1
+        if not self.counts.size:
+            self.counts, self.offset = counts.copy(), offset
+            return
+        if lo < self.offset or hi >= self.offset + self.counts.size:
+            occ = self._occupied()
+            if occ is not None:
+                a, b = occ[0] - self.offset, occ[1] - self.offset + 1
+                self.counts, self.offset = self.counts[a:b], occ[0]
+            lo, hi = min(lo, self.offset), max(hi, self.offset + self.counts.size - 1)
+            span = hi - lo + 1
+            margin = min(span // 4, max(0, self.max_bins - span))
+            new_lo = lo - (margin // 2 if lo < self.offset else 0)
+            new_hi = hi + (margin - margin // 2 if hi >= self.offset + self.counts.size else 0)
+            grown = np.zeros(new_hi - new_lo + 1, dtype=np.int64)
+            grown[self.offset - new_lo: self.offset - new_lo + self.counts.size] = self.counts
+            self.counts, self.offset = grown, new_lo
+        self.counts[offset - self.offset: offset - self.offset + counts.size] += counts
+
+    def _span(self, lo: int, hi: int) -> int:
+        """Bins from ``lo`` to ``hi`` together with the occupied ones (not the empty margins, so that
+        when bins are merged depends on the values alone, not on the order they came in)."""
+        if self.counts.size:
+            kept = (min(lo, self.offset), max(hi, self.offset + self.counts.size - 1))
+            if kept[1] - kept[0] + 1 <= self.max_bins:
+                return kept[1] - kept[0] + 1
+            occ = self._occupied()
+            if occ is not None:
+                lo, hi = min(lo, occ[0]), max(hi, occ[1])
+        return hi - lo + 1
 
     def update(self, v: np.ndarray) -> None:
         v = np.asarray(v, dtype=float).ravel()
@@ -535,30 +690,44 @@ class _Hist:
         self.vmin = min(self.vmin, float(v.min()))
         self.vmax = max(self.vmax, float(v.max()))
         if self.s is None:
-            nz = np.abs(v[v != 0])
-            if nz.size:
-                self.s = 0.01 * float(nz.min())
+            self.s = grid_scale(v)
         while True:
             idx = self._index(v)
             lo, hi = int(idx.min()), int(idx.max())
-            if self.counts.size:
-                lo, hi = min(lo, self.offset), max(hi, self.offset + self.counts.size - 1)
-            if hi - lo + 1 <= self.max_bins:
+            if self._span(lo, hi) <= self.max_bins:
                 break
             self._coarsen()
-        if not self.counts.size:
-            self.offset = lo
-            self.counts = np.zeros(hi - lo + 1, dtype=np.int64)
-        elif lo < self.offset or hi >= self.offset + self.counts.size:
-            span = hi - lo + 1
-            margin = min(span // 4, max(0, self.max_bins - span))
-            new_lo = lo - (margin // 2 if lo < self.offset else 0)
-            new_hi = hi + (margin - margin // 2 if hi >= self.offset + self.counts.size else 0)
-            grown = np.zeros(new_hi - new_lo + 1, dtype=np.int64)
-            grown[self.offset - new_lo: self.offset - new_lo + self.counts.size] = self.counts
-            self.counts, self.offset = grown, new_lo
-        self.counts += np.bincount(idx - self.offset, minlength=self.counts.size)
+        self._add(np.bincount(idx - lo), lo)
         self.n += int(v.size)
+
+    def merge(self, other: "_Hist") -> None:
+        """Add ``other`` (a histogram on the same grid) to this one, exactly."""
+        if other.s is not None:
+            if self.s is None:
+                self.s = other.s  # this one holds only zeros (bin 0 on any scale) or nothing
+            elif self.s != other.s:
+                raise InputError(f"scales: the summaries are on different grids (scale {self.s!r} and "
+                                 f"{other.s!r}); give both the same scales")
+        self._cum = None
+        self.n += other.n
+        self.nan += other.nan
+        self.vmin, self.vmax = min(self.vmin, other.vmin), max(self.vmax, other.vmax)
+        counts, offset, w = other.counts, other.offset, other.w
+        occ = other._occupied()
+        if occ is None:
+            counts = counts[:0]
+        else:  # without its empty margins
+            counts, offset = counts[occ[0] - offset: occ[1] - offset + 1], occ[0]
+        while self.w < w:
+            self._coarsen()
+        while w < self.w:
+            counts, offset = _halve(counts, offset)
+            w *= 2.0
+        while counts.size and self._span(offset, offset + counts.size - 1) > self.max_bins:
+            self._coarsen()
+            counts, offset = _halve(counts, offset)
+        if counts.size:
+            self._add(counts, offset)
 
     def order_stat(self, k: np.ndarray) -> np.ndarray:
         """Estimates of the k-th smallest values (0-based)."""
@@ -584,6 +753,10 @@ class StreamingSummary:
         zero (default 1e-4).
     max_bins : int
         Most bins kept per result; beyond it bins are merged in pairs.
+    scales : mapping of str -> float, optional
+        The grid's scale of some results, in each result's unit (> 0), fixed before any
+        sample; the others take it from the first chunk with a non-zero value
+        (:func:`grid_scale`).  Summaries to be merged need the same scales.
 
     Examples
     --------
@@ -594,22 +767,35 @@ class StreamingSummary:
     """
 
     def __init__(self, results: Iterable[str] | None = None, rel_width: float = REL_WIDTH,
-                 max_bins: int = 1 << 20):
+                 max_bins: int = 1 << 20, scales: Mapping[str, float] | None = None):
         if not (math.isfinite(rel_width) and 0 < rel_width <= 0.1):
             raise InputError(f"rel_width: expected a bin width in (0, 0.1], got {rel_width!r}")
         if isinstance(max_bins, bool) or not isinstance(max_bins, int) or max_bins < 16:
             raise InputError(f"max_bins: expected a whole number >= 16, got {max_bins!r}")
+        self._scales = dict(scales or {})
+        for name, sc in self._scales.items():
+            if isinstance(sc, bool) or not isinstance(sc, (int, float)) or not (math.isfinite(sc) and sc > 0):
+                raise InputError(f"scales: the scale of {name!r} must be a positive number, got {sc!r}")
         self.rel_width = float(rel_width)
         self.max_bins = max_bins
         self._h: dict[str, _Hist] = {}
         if results is not None:
             for r in results:
-                self._h[r] = _Hist(self.rel_width, max_bins)
+                self._h[r] = self._new(r)
+
+    def _new(self, name: str) -> _Hist:
+        sc = self._scales.get(name)
+        return _Hist(self.rel_width, self.max_bins, None if sc is None else float(sc))
 
     @property
     def results(self) -> tuple[str, ...]:
         """The names summarised."""
         return tuple(self._h)
+
+    @property
+    def scales(self) -> dict[str, float | None]:
+        """The scale of each result's grid (its unit; ``None`` while it has seen no non-zero value)."""
+        return {r: h.s for r, h in self._h.items()}
 
     def update(self, values: Mapping[str, np.ndarray]) -> None:
         """Add one chunk of samples.
@@ -622,10 +808,34 @@ class StreamingSummary:
         """
         if not self._h:
             for r in values:
-                self._h[r] = _Hist(self.rel_width, self.max_bins)
+                self._h[r] = self._new(r)
         for r, h in self._h.items():
             if r in values:
                 h.update(values[r])
+
+    def merge(self, other: "StreamingSummary") -> None:
+        """Add another summary's samples to this one.
+
+        Exact and independent of the order: the merged summary is the one of all the samples of
+        both, as if one summary had seen them (module docstring).
+
+        Parameters
+        ----------
+        other : StreamingSummary
+            A summary of the same results on the same grid (``rel_width``, ``max_bins``, and
+            the same scale for every result that has one in both).
+        """
+        if not isinstance(other, StreamingSummary):
+            raise InputError(f"other: expected a StreamingSummary, got {type(other).__name__}")
+        if (other.rel_width, other.max_bins) != (self.rel_width, self.max_bins):
+            raise InputError(f"other: its grid (rel_width {other.rel_width!r}, max_bins {other.max_bins}) differs "
+                             f"from this summary's ({self.rel_width!r}, {self.max_bins})")
+        if self._h and other._h and set(other._h) != set(self._h):
+            raise InputError(f"other: it summarises {', '.join(other._h)}; expected {', '.join(self._h)}")
+        for r, h in other._h.items():
+            if r not in self._h:
+                self._h[r] = self._new(r)
+            self._h[r].merge(h)
 
     def _get(self, name: str) -> _Hist:
         try:
@@ -707,8 +917,6 @@ class StreamingSummary:
 
     def stats(self) -> dict[str, dict | None]:
         """``{"min", "p5", "p50", "p95", "max"}`` per result (``None`` with no finite value)."""
-        from .spread import QUANTILES
-
         out = {}
         for r, h in self._h.items():
             if h.n == 0:

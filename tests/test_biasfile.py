@@ -91,3 +91,27 @@ def test_hfe_table_as_toml_rows(tmp_path):
     with contextlib.redirect_stdout(out):
         assert main(["model", str(p), "--json"]) == 0
     assert json.loads(out.getvalue())["beta"] == 150.0
+
+
+def test_spec_table_is_read_as_text(tmp_path):
+    flat, tables = load_bias_file(_file(tmp_path, 'ic = "1mA"\n[spec]\nav = ">=40"\ngt-db = ">=20dB"\n'
+                                                  'ic = [">=0.8mA", "<=1.2mA"]\n'))
+    assert flat == {"ic": "1mA"}
+    # the form only; the names and comparisons are read by worstcase.collect_specs against the run
+    assert tables == {"spec": {"av": ">=40", "gt_db": ">=20dB", "ic": [">=0.8mA", "<=1.2mA"]}}
+
+
+@pytest.mark.parametrize("text, needle", [
+    ('[spec]\nav = 40\n', "spec.av: expected a comparison as text"),
+    ('[spec]\nav = [">=1", 2]\n', "spec.av: expected a comparison as text"),
+    ('[spec]\nav = []\n', "spec.av: expected a comparison as text"),
+    ('[spec]\nav = [' + ", ".join(['">=1"'] * 17) + ']\n', "at most 16"),
+    ('[spec.av]\nmin = 40\n', "[spec.av]: tables inside [spec] are not used"),
+    ('spec = ">=40"\n', "spec: expected a table [spec]"),
+    ('[spce]\nav = ">=40"\n', "unknown table [spce]; did you mean [spec]?"),
+    ('[spec]\nav = ">=40"\nav = "<=60"\n', "not a valid TOML"),
+])
+def test_spec_table_form_is_checked(tmp_path, text, needle):
+    with pytest.raises(FileFormatError) as exc:
+        load_bias_file(_file(tmp_path, text))
+    assert needle in str(exc.value), str(exc.value)

@@ -143,6 +143,38 @@ def test_spread_json_and_reproducible(run_json):
     assert "yield" not in a  # only with --spec
 
 
+BUILT = Path(__file__).resolve().parents[1] / "bias_examples" / "ce_stage_built.toml"
+
+
+@pytest.mark.parametrize("config", ["ce", "cb", "cc"])
+@pytest.mark.parametrize("freq", ["10kHz", "5Hz"])  # inside the band, and below it (the capacitors matter)
+def test_spread_of_the_stage_as_built_equals_gain(run, run_json, tmp_path, config, freq):
+    # The example stage (divider, re partly bypassed, coupling capacitors) with every limit at its
+    # nominal value: spread analyses the same circuit as gain (whose numbers are checked against hand
+    # formulas in tests/test_stagenetwork.py), and it no longer warns that it does not.
+    path = _write(tmp_path, "\n".join(line for line in BUILT.read_text().splitlines()
+                                      if not line.startswith("tol ")), "built.toml")
+    common = ("--rs", "600", "--rl", "10k", "--freq", freq, "-c", config)
+    for bare in ((), ("--bare",)):  # --bare: the transistor alone at the network's point, in both
+        g = run_json("gain", path, *common, *bare)["points"][0]
+        code, out, err = run("spread", path, *common, *bare, "-n", "20", "--seed", "3", "--json")
+        assert code == 0 and err == "", err
+        d = json.loads(out)
+        for name in ("av", "avs", "ai", "zin", "zout", "gt_db", "k"):
+            want = g[name] if name in ("gt_db", "k") else abs(complex(*g[name]))
+            for q in ("min", "max", "worst_min", "worst_max"):
+                assert d[name][q] == pytest.approx(want, rel=1e-9, abs=1e-12), (name, q, bare)
+
+
+def test_spread_of_the_example_stage_draws_the_two_parts_of_re(run_json):
+    d = run_json("spread", str(BUILT), "--rs", "600", "--rl", "10k", "--freq", "10kHz", "-n", "2000", "--seed",
+                 "1")
+    assert set(d["av"]["worst_max_at"]) == {"beta", "temp", "r1", "r2", "rc", "re_unbypassed", "re_bypassed"}
+    # |av| about (RC || RL) / (220 ohm + 1/gm), 14 to 16 over 5 % parts, not the bare transistor's ~375
+    assert 12 < d["av"]["worst_min"] <= d["av"]["min"] < d["av"]["max"] <= d["av"]["worst_max"] < 18
+    assert not any("rdeg and rfb only" in w for w in d["warnings"])
+
+
 def test_spread_without_network(run_json):
     d = run_json("spread", "--ic", "1mA", "--vce", "5V", "--beta-min", "100", "--beta-max", "300",
                  "--seed", "1", "-n", "500")
@@ -348,6 +380,47 @@ def test_fet_spread_with_collapsed_limits_matches_gain(run_json, device, fixed, 
         assert d["ro"]["p50"] == pytest.approx(1 / (0.02 * 1e-3), rel=1e-12)
 
 
+FET_BUILT = """
+device = "njfet"
+id = "1mA"
+vds = "5V"
+idss = "8mA"
+vp = "-2V"
+cgs = "3pF"
+cgd = "1pF"
+lambda = 0.02
+[network]
+rg1 = "1M"
+rg2 = "470k"
+rd = "4.7k"
+rsrc = "1k"
+rsrc_bypassed = "800"
+c_bypass = "10uF"
+c_in = "100nF"
+c_out = "1uF"
+"""
+
+
+@pytest.mark.parametrize("config", ["cs", "cg", "cd"])
+def test_fet_spread_of_the_stage_as_built_equals_gain(run_json, tmp_path, config):
+    # A FET [network] table is in the spread's AC analysis as in gain's (ID and VDS fixed); with the
+    # limits collapsed every statistic is gain's number.  With a tolerance the network's resistors
+    # are limits under the FET's own key names.
+    path = _write(tmp_path, FET_BUILT, "fet.toml")
+    common = ("--rs", "1k", "--rl", "10k", "-f", "50Hz", "-c", config)
+    g = run_json("gain", path, *common)["points"][0]
+    d = run_json("spread", path, *common, "-n", "20", "--seed", "2")
+    assert d["network"] == "divider"
+    for name in ("av", "avs", "zin", "zout", "gt_db"):
+        want = g[name] if name == "gt_db" else abs(complex(*g[name]))
+        for q in STATS + ("worst_min", "worst_max"):
+            assert d[name][q] == pytest.approx(want, rel=1e-9), (name, q)
+    t = run_json("spread", path, *common, "-n", "200", "--seed", "2", "--tol", "5")
+    assert set(t["av"]["worst_max_at"]) == {"idss", "vp", "lambda", "rg1", "rg2", "rd", "rsrc_unbypassed",
+                                           "rsrc_bypassed"}
+    assert t["av"]["worst_min"] < abs(complex(*g["av"])) < t["av"]["worst_max"]
+
+
 def test_jfet_spread_limits_worst_case_and_yield(run_json, run):
     args = ["spread", *JFET, "--idss-min", "4mA", "--idss-max", "12mA", "--vp-min", "-1", "--vp-max", "-3",
             "--lambda-min", "0.01", "--lambda-max", "0.02", "--rdeg", "100", "--tol", "5", "-n", "2000",
@@ -361,7 +434,7 @@ def test_jfet_spread_limits_worst_case_and_yield(run_json, run):
         e = d[name]
         assert e["worst_min"] <= e["min"] <= e["p5"] <= e["p95"] <= e["max"] <= e["worst_max"] * (1 + 1e-12)
     assert d["ranges"] == {"idss_min": 4e-3, "idss_max": 12e-3, "vp_min": 1.0, "vp_max": 3.0, "lambda_min": 0.01,
-                           "lambda_max": 0.02, "tol": pytest.approx(5.0)}
+                           "lambda_max": 0.02, "tol": pytest.approx(5.0), "ctol": 0.0}
     assert d["yield"]["specs"] == ["gm>=0.002", "ro>=60000"] and d["yield"]["worst_case_pass"] is False
     assert 0 < d["yield"]["fraction"] < 1
     code, out, err = run(*args)
@@ -423,3 +496,142 @@ def test_plot_keeps_the_values_above_the_streaming_limit(run, monkeypatch, tmp_p
     code, out, err = run(*args, "--plot", str(png))
     assert code == 0, err
     assert json.loads(out)["stats_accuracy"]["method"] == "exact" and png.stat().st_size > 0
+
+
+# --- the [spec] table and the noise figure in spread ---------------------------------------------
+QUIET_SPEC = str(Path(__file__).resolve().parents[1] / "bias_examples" / "quiet_input_spread.toml")
+QUIET = str(Path(__file__).resolve().parents[1] / "bias_examples" / "quiet_audio_input.toml")
+
+
+def test_spec_table_of_the_example_file_gives_the_yield(run_json):
+    d = run_json("spread", QUIET_SPEC, "--rs", "2k", "--rl", "10k", "-n", "3000", "--seed", "1")
+    y = d["yield"]
+    assert y["specs"] == ["av>=42", "zin>=40000", "nf_db<=0.85", "ic>=0.00014", "ic<=0.00016"]
+    assert 0.0 < y["fraction"] < 1.0 and y["ci95"][0] <= y["fraction"] <= y["ci95"][1]
+    # a spec on nf_db turns the noise figure on: its statistics and worst case are reported
+    for name in ("nf_db", "nfmin_db"):
+        assert d[name]["min"] <= d[name]["p50"] <= d[name]["max"]
+        assert d[name]["worst_min"] <= d[name]["min"] and d[name]["max"] <= d[name]["worst_max"]
+    # the worst-case verdict against the extremes (worstcase.worst_case_pass's rule)
+    meets = (d["av"]["worst_min"] >= 42 and d["zin"]["worst_min"] >= 40e3 and d["nf_db"]["worst_max"] <= 0.85)
+    assert y["worst_case_pass"] is meets
+
+
+def test_spec_options_add_to_the_table_or_replace_its_limit(run_json):
+    d = run_json("spread", QUIET_SPEC, "--rs", "2k", "--rl", "10k", "-n", "500", "--seed", "1",
+                 "--spec", "av>=40", "--spec", "zin<=200k", "--spec", "nf_db<1dB")
+    # av's and nf_db's limits replaced (same direction), zin gains an upper limit
+    assert d["yield"]["specs"] == ["zin>=40000", "ic>=0.00014", "ic<=0.00016", "av>=40", "zin<=200000", "nf_db<1"]
+
+
+def test_collapsed_noise_spread_equals_the_noise_command(run_json):
+    # every limit fixed (beta, temperature, no tolerance): each sample is the file's bias point,
+    # and its NF and NFmin are those of the `noise` command at the same source and frequency
+    args = (QUIET, "--rs", "2k", "--freq", "10kHz")
+    d = run_json("spread", *args, "--noise", "-n", "20", "--seed", "1")
+    ref = run_json("noise", *args)["points"][0]
+    for name in ("nf_db", "nfmin_db"):
+        assert d[name]["min"] == pytest.approx(ref[name], rel=1e-9, abs=0)
+        assert d[name]["max"] == pytest.approx(ref[name], rel=1e-9, abs=0)
+    assert d["noise"] is True
+    plain = run_json("spread", *args, "-n", "20", "--seed", "1")
+    assert "nf_db" not in plain and "nfmin_db" not in plain and plain["noise"] is False  # only when asked
+
+
+@pytest.mark.parametrize("body, start", [
+    ('gain = ">=40"', "spec.gain: 'gain' is not a result"),
+    ('av = "=>40"', "spec.av: "),
+    ('av = ">=forty"', "spec.av: "),
+    ('av = "av>=40"', "spec.av: expected a comparison"),
+    ('av = 40', None),
+    ('gm = ">=1m"', "spec.gm: 'gm' is not a result"),  # a FET result, not one of a bipolar spread
+])
+def test_bad_spec_table_is_one_line_naming_the_key(run, tmp_path, body, start):
+    f = _write(tmp_path, f'ic = "1mA"\nvce = "5V"\nbeta_min = 100\nbeta_max = 200\n[spec]\n{body}\n', "s.toml")
+    line = assert_one_line_error(run, "spread", f, "-n", "100", "--seed", "1", prefix=start)
+    assert "spec." in line
+
+
+def test_noise_spread_needs_a_source_with_a_real_part(run):
+    assert_one_line_error(run, "spread", QUIET, "--noise", "--rs", "0", "-n", "10", prefix="rs: the noise figure")
+    assert_one_line_error(run, "spread", QUIET_SPEC, "--rs", "j50", "-n", "10", prefix="rs: the noise figure")
+
+
+def test_noise_spread_table_and_plot(run, tmp_path):
+    png = tmp_path / "nf.png"
+    code, out, err = run("spread", QUIET_SPEC, "--rs", "2k", "--rl", "10k", "-n", "1000", "--seed", "1",
+                         "--plot", str(png))
+    assert code == 0, err
+    assert "NFmin" in out and "Yield:" in out and "nf_db<=0.85" in out
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_spread_capacitor_tolerance_worst_case_is_gain_at_that_corner(run_json, tmp_path):
+    """``--ctol``: with the resistors and beta fixed, the worst |av| at 20 Hz (below the band,
+    where the capacitors set the gain) is reached with every capacitor at an end of its
+    tolerance, and equals ``gain`` on the same file with the capacitors moved to that corner
+    (both from the same netlist engine: a check that the option reaches the capacitors, and
+    that the corner reported is the one that gives the value)."""
+    src = Path(__file__).resolve().parent.parent / "bias_examples" / "ce_stage_built.toml"
+    args = ("--rs", "600", "--rl", "10k", "--freq", "20Hz")
+    d = run_json("spread", str(src), *args, "--tol", "0", "--ctol", "20", "-n", "400", "--seed", "5")
+    assert d["ranges"]["ctol"] == 20.0
+    nominal = {"c_in": 4.7e-6, "c_out": 10e-6, "c_bypass": 100e-6}
+    for side, key in (("worst_min", "worst_min_at"), ("worst_max", "worst_max_at")):
+        at = d["av"][key]
+        assert set(nominal) <= set(at)
+        text = src.read_text()
+        for name, c in nominal.items():
+            factor = {"low": 0.8, "high": 1.2}[at[name]] if isinstance(at[name], str) else at[name] / c
+            old = {"c_in": 'c_in = "4.7uF"', "c_out": 'c_out = "10uF"', "c_bypass": 'c_bypass = "100uF"'}[name]
+            assert old in text
+            text = text.replace(old, f'{name} = {c * factor!r}')
+        corner = tmp_path / f"{side}.toml"
+        corner.write_text(text)
+        p = run_json("gain", str(corner), *args)["points"][0]
+        av = math.hypot(*p["av"])
+        assert d["av"][side] == pytest.approx(av, rel=1e-9, abs=0)
+    # the capacitors matter here: the spread of |av| is wide, and every sample lies inside
+    assert d["av"]["worst_max"] / d["av"]["worst_min"] > 1.05
+    assert d["av"]["worst_min"] <= d["av"]["min"] <= d["av"]["max"] <= d["av"]["worst_max"]
+
+
+def test_spread_sample_limits(run, tmp_path):
+    """Without --plot the values are streamed (memory flat in the count): the limit is the fixed
+    MAX_STREAMED_SAMPLES; --plot keeps every sample, so its limit is MAX_SAMPLES (memory)."""
+    from devmodels.schema import MAX_SAMPLES, MAX_STREAMED_SAMPLES
+
+    assert MAX_STREAMED_SAMPLES >= 100_000_000 and MAX_STREAMED_SAMPLES >= MAX_SAMPLES
+    base = ("spread", "--ic", "1mA", "--vce", "5", "--beta", "100", "--beta-min", "50", "--beta-max", "150")
+    assert_one_line_error(run, *base, "-n", str(MAX_STREAMED_SAMPLES + 1), prefix="samples:")
+    assert_one_line_error(run, *base, "-n", str(MAX_SAMPLES + 1), "--plot", str(tmp_path / "h.png"),
+                          prefix="samples:")
+
+
+def test_spread_plot_draws_the_specification_limits(run, tmp_path, monkeypatch):
+    """Each specification limit is a vertical line in the panel of its result, at its value (in
+    the panel's unit: zin in kohm, ic in mA)."""
+    import devmodels.plotting as plotting
+
+    figs = []
+    real = plotting.save_figure
+
+    def keep(fig, path, **kw):
+        figs.append(fig)
+        return real(fig, path, **kw)
+
+    monkeypatch.setattr(plotting, "save_figure", keep)
+    src = Path(__file__).resolve().parent.parent / "bias_examples" / "quiet_input_spread.toml"
+    code, _, err = run("spread", str(src), "--rs", "2k", "--rl", "10k", "-n", "2000", "--seed", "1",
+                       "--plot", str(tmp_path / "h.png"))
+    assert code == 0, err
+    (fig,) = figs
+    drawn = {}
+    for ax in fig.axes:
+        xs = sorted(round(float(line.get_xdata()[0]), 9) for line in ax.get_lines()
+                    if line.get_color() == "#55a868")
+        if xs:
+            drawn[ax.get_xlabel()] = xs
+    # the file's [spec]: av >= 42, zin >= 40k, nf_db <= 0.85 dB, 140 uA <= ic <= 160 uA
+    assert drawn == {"|av| = |V2/V1|": [42.0], "|Zin| (kΩ)": [40.0], "NF at Rs (dB)": [0.85],
+                     "IC (mA)": [0.14, 0.16]}

@@ -4,6 +4,7 @@ temperature and datasheet values through the CLI, self-describing output files."
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import pytest
 
@@ -402,7 +403,39 @@ def test_ce_example_gain_is_set_by_the_unbypassed_resistor(run_json):
 def test_spread_says_what_it_leaves_out(run, tmp_path):
     path = _write(tmp_path, CE_FILE + 'c_in = "1uF"\n')
     code, out, err = run("spread", path, "--beta-min", "100", "--beta-max", "200", "-n", "50", "--seed", "1")
-    assert code == 0 and "devmodels: warning: network: spread analyses the transistor" in err
+    assert code == 0 and "spread analyses the transistor" not in err
     ds = _write(tmp_path, 'ic = "1mA"\nvce = 5\nft = "300MHz"\nft_at_ic = "5mA"\n', "ds.toml")
     assert_one_line_error(run, "spread", ds, "--beta-min", "100", "--beta-max", "200", "-n", "50",
                           prefix="ft_at_ic: datasheet values")
+
+
+@pytest.mark.parametrize("cmd", ["gain", "noise", "params", "spread"])
+def test_network_options_override_the_file_table(run_json, tmp_path, cmd):
+    """--net-rc (any [network] key as --net-...) overrides the file's table as every option
+    overrides the file: the result equals the one of a file with that value written in."""
+    src = Path(__file__).resolve().parent.parent / "bias_examples" / "ce_stage_built.toml"
+    text = src.read_text()
+    assert 'rc = "5.6k"' in text and 'c_in = "4.7uF"' in text
+    edited = tmp_path / "edited.toml"
+    edited.write_text(text.replace('rc = "5.6k"', 'rc = "4.7k"').replace('c_in = "4.7uF"', 'c_in = "1uF"'))
+    extra = {"gain": ["--rs", "600", "--rl", "10k", "-f", "20Hz"], "noise": ["--rs", "600", "-f", "20Hz"],
+             "params": ["-f", "20Hz"], "spread": ["--rs", "600", "--rl", "10k", "--freq", "20Hz", "-n", "300",
+                                                  "--seed", "4"]}[cmd]
+    by_option = run_json(cmd, str(src), *extra, "--net-rc", "4.7k", "--net-c-in", "1uF")
+    by_file = run_json(cmd, str(edited), *extra)
+    unchanged = run_json(cmd, str(src), *extra)
+    assert by_option == by_file
+    assert by_option != unchanged
+
+
+def test_net_rb_is_the_bias_resistor_and_rb_the_spreading_resistance(run_json):
+    """On a stage command --rb is the model's base spreading resistance and --net-rb the bias
+    resistor of a fixed-bias network: one option, one meaning."""
+    base = ["--net-type", "fixed", "--net-vcc", "12", "--net-rc", "4.7k", "--beta", "100", "--ft", "300MHz"]
+    a = run_json("model", *base, "--net-rb", "1M")
+    b = run_json("model", *base, "--net-rb", "1M", "--rb", "150")
+    c = run_json("model", *base, "--net-rb", "680k")
+    assert a["ic"] == b["ic"] and a["rb"] == 0.0 and b["rb"] == 150.0
+    # fixed bias: IB = (VCC - VBE)/RB, IC = beta IB (textbook DC analysis, from memory)
+    assert a["ic"] == pytest.approx(100 * (12 - 0.7) / 1e6, rel=1e-9)
+    assert c["ic"] == pytest.approx(100 * (12 - 0.7) / 680e3, rel=1e-9)

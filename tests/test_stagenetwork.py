@@ -196,3 +196,66 @@ def test_terminate_configs_keeps_the_network():
         want = terminate(dm.Stage(m, c, network=net).two_port(f), 600.0, 10e3)
         np.testing.assert_allclose(got[c].avs, want.avs, rtol=1e-9)
         np.testing.assert_allclose(got[c].zin, want.zin, rtol=1e-9)
+
+
+# --- arrays of resistor values (a spread's samples) ------------------------------------------------
+@pytest.mark.parametrize("config", ["ce", "cb", "cc"])
+def test_a_network_of_arrays_equals_one_scalar_network_per_sample(config):
+    # The same engine with arrays as element values (as the device model's in a spread): each
+    # point of the array network against the scalar network of that sample, whose numbers the
+    # hand-formula tests above check.
+    m = _model(ro=60e3, rb=80.0, c_pi=12e-12, c_mu=2e-12)
+    rng = np.random.default_rng(8)
+    n = 5
+    r = {name: nom * rng.uniform(0.9, 1.1, n) for name, nom in
+         dict(r1=82e3, r2=15e3, rc=5.6e3, ru=220.0, rb=1.2e3).items()}
+    caps = dict(c_bypass=100e-6, c_in=4.7e-6, c_out=10e-6, c_base=1e-6)
+    arrays = StageNetwork("divider", r1=r["r1"], r2=r["r2"], rc=r["rc"], re=r["ru"] + r["rb"], re_bypassed=r["rb"],
+                          **caps)
+    for f in (20.0, 10e3):
+        from devmodels.configs import config_y
+
+        y = config_y(dm.Stage(m, config, network=arrays).indefinite_block(2 * math.pi * f, n), config)
+        for k in range(n):
+            one = StageNetwork("divider", r1=r["r1"][k], r2=r["r2"][k], rc=r["rc"][k], re=r["ru"][k] + r["rb"][k],
+                               re_bypassed=r["rb"][k], **caps)
+            ref = dm.Stage(m, config, network=one).two_port([f]).data[0]
+            np.testing.assert_allclose(y[k], ref, rtol=1e-10, atol=0)
+
+
+def test_resistors_and_with_resistors():
+    net = StageNetwork("divider", r1=82e3, r2=15e3, rc=5.6e3, re=1.42e3, re_bypassed=1.2e3, c_bypass=100e-6)
+    assert net.split
+    assert net.resistors == pytest.approx(dict(r1=82e3, r2=15e3, rc=5.6e3, re_unbypassed=220.0, re_bypassed=1.2e3),
+                                          rel=1e-12, abs=0)
+    new = net.with_resistors({"re_unbypassed": np.array([200.0, 240.0]), "re_bypassed": np.array([1.1e3, 1.3e3]),
+                              "rdeg": 5.0})
+    np.testing.assert_array_equal(new.re, [1.3e3, 1.54e3])  # the operating point's re: the sum
+    np.testing.assert_array_equal(new.re_bypassed, [1.1e3, 1.3e3])
+    assert new.r1 == 82e3 and new.c_bypass == 100e-6
+    # not split: re whole (no bypass, all of it bypassed, or a zero re); rc = 0 is no resistor
+    whole = StageNetwork("fixed", rb=470e3, re=1e3, c_bypass="short")
+    assert not whole.split and whole.resistors == {"rb": 470e3, "re": 1e3}
+    moved = whole.with_resistors({"re": np.array([0.9e3, 1.1e3])})
+    assert moved.re_bypassed is None and np.array_equal(moved.bypassed, [0.9e3, 1.1e3])
+    given = StageNetwork("fixed", rb=470e3, re=1e3, re_bypassed=1e3, c_bypass=1e-6)
+    np.testing.assert_array_equal(given.with_resistors({"re": np.array([2.0, 3.0])}).re_bypassed, [2.0, 3.0])
+    assert StageNetwork("none").resistors == {}
+
+
+@pytest.mark.parametrize("kwargs, start", [
+    (dict(rc=np.array([1e3, -1.0])), "rc: expected resistances >= 0 ohm, got -1 (sample 1)"),
+    (dict(r1=np.array([47e3, 0.0])), "r1: expected resistances > 0 ohm, got 0 (sample 1)"),
+    (dict(rc=np.array([0.0, 1e3])), "rc: an array of resistances must be all positive or all zero"),
+    (dict(re=np.array([100.0, 100.0]), re_bypassed=np.array([50.0, 150.0]), c_bypass=1e-6),
+     "re_bypassed: 150 ohm is more than re = 100 ohm (sample 1)"),
+    (dict(re=np.array([100.0, np.nan])), "re: expected resistances >= 0 ohm, got nan (sample 1)"),
+    # scalars keep their messages
+    (dict(rc=-1.0), "rc: expected a resistance >= 0 ohm, got -1.0"),
+    (dict(re=100.0, re_bypassed=200.0, c_bypass=1e-6), "re_bypassed: 200 ohm is more than re = 100 ohm"),
+])
+def test_bad_arrays_of_resistances_name_the_value_and_the_sample(kwargs, start):
+    base = dict(bias="divider", r1=47e3, r2=10e3) | kwargs
+    with pytest.raises(dm.InputError) as e:
+        StageNetwork(**base)
+    assert str(e.value).startswith(start)

@@ -229,6 +229,63 @@ def test_streaming_quantiles_with_merged_bins_keep_their_bound():
         assert abs(x - y) <= s.error_bound("x", y)
 
 
+def _same_summary(a: StreamingSummary, b: StreamingSummary, names) -> None:
+    """Every quantile (a fine grid of q), count, missing count and error bound equal, exactly."""
+    q = np.linspace(0.0, 1.0, 2001)
+    for name in names:
+        np.testing.assert_array_equal(a.quantile(name, q), b.quantile(name, q))
+        assert (a.count(name), a.missing(name)) == (b.count(name), b.missing(name))
+        assert a.error_bound(name, 1.5) == b.error_bound(name, 1.5)
+    assert a.stats() == b.stats()
+
+
+@pytest.mark.parametrize("max_bins", [1 << 20, 1000, 64])  # 1000 and 64: bins merged in pairs
+def test_merged_summaries_equal_one_summary_over_all_the_values(max_bins):
+    # The definition of an exact merge: summaries of parts of the values, merged in any order,
+    # are the summary of all of them fed to one summary (no outside reference needed: the
+    # accuracy of that one against numpy is checked above).
+    rng = np.random.default_rng(21)
+    n = 60_000
+    data = {"wide": rng.lognormal(0.0, 2.0, n), "signed": rng.normal(0.0, 1.0, n),
+            "late": np.r_[np.zeros(25_000), rng.normal(3.0, 1.0, n - 25_000)],  # only zeros at first
+            "gain": rng.uniform(30.0, 31.0, n)}
+    data["gain"][::97] = np.nan
+    whole = StreamingSummary(max_bins=max_bins)
+    _feed(whole, data, 5000)
+    # parts of uneven sizes fed in uneven chunks; the first part sets the grid as `whole`'s first
+    # chunk did ("late" has only zeros there: no scale yet), the others are given the scales
+    cuts = [0, 5000, 11_000, 30_000, 31_000, 47_000, n]
+    parts = []
+    for i, (a, b) in enumerate(zip(cuts[:-1], cuts[1:])):
+        part = StreamingSummary(max_bins=max_bins, scales=None if i == 0 else whole.scales)
+        _feed(part, {k: v[a:b] for k, v in data.items()}, [5000, 700, 4096, 333, 10_000, 2048][i])
+        parts.append(part)
+    assert parts[0].scales["late"] is None
+    for order in (range(len(parts)), reversed(range(len(parts))), [3, 0, 5, 1, 4, 2]):
+        merged = StreamingSummary(max_bins=max_bins)
+        for i in order:
+            merged.merge(parts[i])
+        _same_summary(merged, whole, data)
+    # merging an empty summary changes nothing
+    merged.merge(StreamingSummary(max_bins=max_bins))
+    _same_summary(merged, whole, data)
+
+
+def test_merge_refuses_summaries_on_different_grids():
+    a = StreamingSummary(["x"], scales={"x": 0.01})
+    a.update({"x": np.array([1.0, 2.0])})
+    b = StreamingSummary(["x"], scales={"x": 0.02})
+    b.update({"x": np.array([3.0])})
+    with pytest.raises(InputError, match="^scales: "):
+        a.merge(b)
+    with pytest.raises(InputError, match="^other: "):
+        a.merge(StreamingSummary(["x"], rel_width=2e-4))
+    with pytest.raises(InputError, match="^other: "):
+        a.merge(StreamingSummary(["y"]))
+    with pytest.raises(InputError, match="^scales: "):
+        StreamingSummary(["x"], scales={"x": 0.0})
+
+
 def test_streaming_summary_bad_input():
     with pytest.raises(InputError, match="rel_width"):
         StreamingSummary(rel_width=0.0)
@@ -320,3 +377,49 @@ def test_specs_on_gm_and_ro_take_their_units():
         parse_spec("gm>=5V", results=FET_RESULTS)
     with pytest.raises(InputError, match="^spec ro: "):
         parse_spec("ro>=5A", results=FET_RESULTS)
+
+
+# --- the [spec] table of a bias file and --spec, merged (collect_specs) --------------------------
+from devmodels.worstcase import collect_specs  # noqa: E402
+
+
+def test_spec_table_reads_like_the_option():
+    # every table entry is the key followed by its text, read by parse_spec (the one reader)
+    table = {"av": ">=40", "zin": " >= 1k", "ic": [">=0.8mA", "<=1.2mA"], "gt_db": ">12dB"}
+    got = collect_specs((), table, RESULTS)
+    assert got == [parse_spec("av>=40"), parse_spec("zin>=1k"), parse_spec("ic>=0.8mA"), parse_spec("ic<=1.2mA"),
+                   parse_spec("gt_db>12dB")]
+    assert got[2] == ("ic", ">=", pytest.approx(0.8e-3, rel=1e-15, abs=0))
+
+
+def test_an_option_replaces_the_table_limit_in_the_same_direction_and_adds_otherwise():
+    table = {"av": ">=40", "zin": ">=1k", "ic": [">=0.8mA", "<=1.2mA"]}
+    got = collect_specs(["av>=30", "zin<=50k", "ic<1.5mA"], table, RESULTS)
+    # av's lower limit replaced; zin keeps its lower limit and gains an upper one; ic's upper
+    # limit replaced (<= and < are the same direction), its lower limit kept
+    assert got == [("zin", ">=", 1000.0), ("ic", ">=", pytest.approx(0.8e-3, rel=1e-15, abs=0)),
+                   ("av", ">=", 30.0), ("zin", "<=", 50000.0), ("ic", "<", pytest.approx(1.5e-3, rel=1e-15, abs=0))]
+    assert collect_specs(["av>=30"], None, RESULTS) == [("av", ">=", 30.0)]
+    assert collect_specs((), {}, RESULTS) == []
+
+
+@pytest.mark.parametrize("table, start", [
+    ({"gain": ">=40"}, "spec.gain: 'gain' is not a result"),
+    ({"av": "=>40"}, "spec.av: "),
+    ({"av": ">="}, "spec.av"),
+    ({"av": "av>=40"}, "spec.av: expected a comparison"),
+    ({"av": "40"}, "spec.av: expected a comparison"),
+    ({"av": 40}, "spec.av: expected text"),
+    ({"av": []}, "spec.av: expected a comparison"),
+    ({"zin": ">=5V"}, "spec.zin: "),
+    ({"nf_db": "<=3"}, "spec.nf_db: 'nf_db' is not a result"),  # no noise in this run's results
+])
+def test_bad_spec_table_entries_name_the_key(table, start):
+    with pytest.raises(InputError) as exc:
+        collect_specs((), table, RESULTS)
+    assert str(exc.value).startswith(start), str(exc.value)
+
+
+def test_unknown_result_suggests_the_nearest_name():
+    with pytest.raises(InputError, match=r"^spec: 'zim' is not a result; .*did you mean zin\?"):
+        collect_specs(["zim>=1k"], None, RESULTS)

@@ -15,7 +15,7 @@ from typing import Annotated, Any, Callable, Optional
 import typer
 
 from ..exceptions import InputError
-from ..schema import MAX_SAMPLES
+from ..schema import MAX_SAMPLES, MAX_STREAMED_SAMPLES
 from ..units import check_bounds, format_si, parse_count, parse_quantity, shown
 from .app import command
 from .inputs import BIAS_KEYS, SPREAD_KEYS, Inputs, bias_options, check_config, parse_freq, parse_z0, terminations
@@ -124,13 +124,19 @@ def _limit_option(name: str, end: str):
 
 SpecOpt = Annotated[Optional[list[str]], typer.Option(
     "--spec", help="A specification RESULT>=VALUE or RESULT<=VALUE (also > and <; units allowed, e.g. "
-                   "av>=40, zin>=1k, gt_db>=20dB); repeat for more. Adds the yield: the fraction of samples "
-                   "meeting them all, and whether the worst case over the limits meets them.",
+                   "av>=40, zin>=1k, gt_db>=20dB, nf_db<=3); repeat for more. Adds the yield: the fraction of "
+                   "samples meeting them all, and whether the worst case over the limits meets them. Adds to "
+                   "the bias file's \\[spec] table (av = \">=40\"), replacing its limit on the same result in "
+                   "the same direction.",
     rich_help_panel="Spread limits", show_default=False, metavar="SPEC")]
+NoiseOpt = Annotated[bool, typer.Option(
+    "--noise", help="Also the noise figure at --rs (nf_db) and the minimum noise figure (nfmin_db), source at "
+                    "290 K, for every sample and over the box of limits (up to about twice the time per sample; "
+                    "implied by a spec on nf_db or nfmin_db).", rich_help_panel="Spread limits")]
 
 
 @command("spread")
-@bias_options(_spread_keys)
+@bias_options(_spread_keys, bare=True)
 def spread_cmd(
     bias_in: Inputs,
     config: ConfigOpt = None,
@@ -139,12 +145,14 @@ def spread_cmd(
     rl: RlOpt = "1k",
     z0: Z0Opt = "50",
     samples: Annotated[str, typer.Option("--samples", "-n", help=f"Number of samples (e.g. 10000, 1e6; at most "
+                                         f"{MAX_STREAMED_SAMPLES:.3g}; with --plot, which keeps every sample, at most "
                                          f"{MAX_SAMPLES:.3g}, a quarter of this computer's memory).", metavar="COUNT",
                                          rich_help_panel="Spread limits")] = "10000",
     seed: Annotated[Optional[str], typer.Option("--seed", help="Seed of the random draws (default: a new one, "
                                                 "printed so the run can be repeated).", metavar="INTEGER",
                                                 rich_help_panel="Spread limits", show_default=False)] = None,
     spec: SpecOpt = None,
+    noise: NoiseOpt = False,
     idss_min: _limit_option("idss", "min") = None,
     idss_max: _limit_option("idss", "max") = None,
     vp_min: _limit_option("vp", "min") = None,
@@ -169,7 +177,7 @@ def spread_cmd(
         from ..fileio import check_destination
 
         check_destination(plot, option="plot")
-    n = parse_count(samples, "samples", MAX_SAMPLES)
+    n = parse_count(samples, "samples", MAX_SAMPLES if plot is not None else MAX_STREAMED_SAMPLES)
     seed_v = None if seed is None else parse_count(seed, "seed", 2 ** 63 - 1, minimum=0)
     zs, zl = terminations(rs, rl)
     texts = {f"{name}_{end}": v for name, end, v in (
@@ -187,9 +195,18 @@ def spread_cmd(
     else:
         setup, ranges = _fet_spread(bias_in, texts, check_config(config or "cs"), parse_freq(freq), zs, zl,
                                     parse_z0(z0), n, seed_v)
+    # specifications: the bias file's [spec] table and --spec (one reader); a noise result named
+    # in them turns the noise on
+    from ..spread import NOISE_RESULTS
+
+    specs = bias_in.specs(spec, setup.results + tuple(r for r in NOISE_RESULTS if r not in setup.results))
+    if noise or any(name in NOISE_RESULTS for name, _, _ in specs):
+        import dataclasses
+
+        setup = dataclasses.replace(setup, noise=True)
     # --plot needs every sample's value; otherwise the library keeps them up to its limit and
     # streams beyond it (bounded memory)
-    run = functools.partial(run_spread, specs=tuple(spec or ()), keep_values=True if plot is not None else None)
+    run = functools.partial(run_spread, specs=tuple(specs), keep_values=True if plot is not None else None)
     result = _run_with_progress(run, setup, ranges, show=not as_json and n > PROGRESS_SAMPLES)
     for w in result.warnings:
         warn(w)
@@ -228,9 +245,6 @@ def _fet_spread(bias_in: Inputs, texts: dict[str, str], config: str, freq: float
         if kid in bias_in.values:
             raise InputError(f"{kid}: a bipolar limit, not used for a {dev} (a FET spread takes --idss-min/"
                              "--idss-max and --vp-min/--vp-max, or --kn-min/--kn-max or --vov-min/--vov-max)")
-    if bias_in.has_network():
-        raise InputError(f"network: the FET spread analyses the transistor stage (with rdeg, rfb) at a fixed ID "
-                         f"and VDS; remove the [network] table for a {dev}")
     if config not in FET_CONFIGS:
         raise InputError(f"config: a FET spread takes {', '.join(FET_CONFIGS)}, got {config!r}")
     i_d = bias_in.require("id", "drain current in A, e.g. 2mA")
@@ -267,13 +281,14 @@ def _fet_spread(bias_in: Inputs, texts: dict[str, str], config: str, freq: float
             raise InputError(f"kn_min: missing; a {dev} spread needs --kn-min and --kn-max or --vov-min and "
                              "--vov-max (or a fixed --kn or --vov)")
     kw = {f"{name}_{end}": v for name, (lo, hi) in limits.items() for end, v in (("min", lo), ("max", hi))}
-    ranges = FetSpreadRanges(**kw, tol=bias_in.get("tol", 0.0), samples=n, seed=seed)
+    ranges = FetSpreadRanges(**kw, tol=bias_in.get("tol", 0.0), samples=n, seed=seed, ctol=bias_in.get("ctol", 0.0))
     setup = FetSpreadSetup(
         config=config, freq=freq, rs=zs, rl=zl, device=dev, id=i_d, vds=vds,
         gamma=None if fam == "jfet" else bias_in.get("gamma"), vsb=abs(bias_in.get("vsb", 0.0)),
         two_phi_f=bias_in.get("two_phi_f", 0.7), cgs=bias_in.get("cgs", 0.0), cgd=bias_in.get("cgd", 0.0),
         csb=bias_in.get("csb", 0.0), cdb=bias_in.get("cdb", 0.0), rg=bias_in.get("rg", 0.0),
-        rdeg=bias_in.get("rdeg"), rfb=bias_in.get("rfb"), z0=z0)
+        rdeg=bias_in.get("rdeg"), rfb=bias_in.get("rfb"), z0=z0,
+        stage_network=bias_in.stage_network())  # the stage as built, as gain analyses it (ID, VDS fixed)
     setup.limits(ranges)  # the checks of the limits against ID and VDS, before any sample is drawn
     from ..dcbias import rating_warnings
 
@@ -299,7 +314,8 @@ def _run_with_progress(run: Callable, setup, ranges, show: bool):
 _SHOWN: tuple[tuple[str, str, str], ...] = (
     ("av", "", "|V2/V1|"), ("avs", "", "|V2/Vs|"), ("ai", "", "|-I2/I1|"), ("zin", "Ω", "|Zin|"),
     ("zout", "Ω", "|Zout|"), ("gt_db", "dB", "GT"), ("k", "", "Rollett K"), ("ic", "A", "|IC|"),
-    ("vce", "V", "|VCE|"), ("power", "W", "P"), ("gm", "S", "gm"), ("ro", "Ω", "ro"))
+    ("vce", "V", "|VCE|"), ("power", "W", "P"), ("gm", "S", "gm"), ("ro", "Ω", "ro"), ("nf_db", "dB", "NF"),
+    ("nfmin_db", "dB", "NFmin"))
 
 #: How the worst case was found: method -> (mark in the table, footnote).
 _METHODS: dict[str, tuple[str, str]] = {
@@ -316,7 +332,7 @@ def _spread_json(result, plot: Path | None) -> dict[str, Any]:
     out = result.as_dict()
     out.update({
         "config": s.config, "freq": s.freq, "rs": zjson(complex(s.rs)), "rl": zjson(complex(s.rl)),
-        "device": s.device, "ranges": d["ranges"], "plot": None if plot is None else str(plot)})
+        "device": s.device, "ranges": d["ranges"], "noise": s.noise, "plot": None if plot is None else str(plot)})
     out.update(d["bias_json"])
     return out
 

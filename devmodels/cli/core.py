@@ -27,7 +27,7 @@ def _signed(bias, names: tuple[str, str]) -> tuple[float, float]:
 
 
 @command("model")
-@bias_options()
+@bias_options(network=True)
 def model_cmd(bias_in: Inputs, as_json: JsonOpt = False) -> None:
     """Small-signal element values (hybrid-pi and T model, or the FET model) at a bias point."""
     from ..units import format_si

@@ -284,7 +284,7 @@ def _formula_resistance(text: str | None, name: str, symbol: str) -> float | Non
 
 
 @command("formula")
-@bias_options()
+@bias_options(network=True)
 def formula_cmd(
     bias_in: Inputs,
     config: ConfigOpt = None,

@@ -25,7 +25,7 @@ from ..schema import FAMILY, FREQ, IMPEDANCE, MAX_POINTS, PANELS, Z0, Key, keys,
 from ..units import UNITS, Bounds, check_bounds, parse_complex, parse_count, parse_impedance, parse_quantity, shown
 from .render import note_later, warn
 
-__all__ = ["Inputs", "bias_options", "MODEL_KEYS", "SPREAD_KEYS", "BIAS_KEYS", "parse_freqs", "parse_freq",
+__all__ = ["Inputs", "bias_options", "MODEL_KEYS", "SPREAD_KEYS", "BIAS_KEYS", "NETWORK_KEYS", "network_flag", "parse_freqs", "parse_freq",
            "parse_z0", "parse_given", "terminations", "parse_points", "two_port_input", "check_kind",
            "check_config"]
 
@@ -61,12 +61,26 @@ def _metavar(k: Key) -> str:
 
 
 @functools.lru_cache(maxsize=None)
-def _parameter(kid: str) -> inspect.Parameter:
+def _parameter(kid: str, prefixed: bool = False) -> inspect.Parameter:
     k = keys()[kid]
+    flag = network_flag(k) if prefixed else k.flag
     return inspect.Parameter(
         k.param, inspect.Parameter.KEYWORD_ONLY, default=None,
-        annotation=Annotated[Optional[str], typer.Option(k.flag, help=k.help, rich_help_panel=PANELS[k.panel],
+        annotation=Annotated[Optional[str], typer.Option(flag, help=k.help, rich_help_panel=PANELS[k.panel],
                                                          show_default=False, metavar=_metavar(k))])
+
+
+def network_flag(k: Key) -> str:
+    """The option of a ``[network]`` key on a stage command: ``--net-rc``, ``--net-c-in``,
+    ``--net-type``.  The prefix keeps every option to one meaning: ``--rb`` of a stage command is
+    the model's base spreading resistance, ``--net-rb`` the bias resistor (``bias`` keeps the
+    short names, where there is no model)."""
+    return "--net-" + k.name.replace("_", "-")
+
+
+def NETWORK_KEYS(k: Key) -> bool:
+    """The keys of the ``[network]`` table (the options ``--net-...`` of the stage commands)."""
+    return k.table == "network"
 
 
 @functools.lru_cache(maxsize=None)
@@ -95,14 +109,20 @@ def _bare_parameter() -> inspect.Parameter:
 
 
 def bias_options(select: Callable[[Key], bool] = MODEL_KEYS, file_help: str = FILE_HELP,
-                 bare: bool = False) -> Callable:
+                 bare: bool = False, network: bool = False) -> Callable:
     """Add the bias-file argument and the options of the schema keys ``select`` picks to a command.
 
     The command receives them as one ``bias_in: Inputs`` argument.  The option parameters are
     made once and shared by every command (start-up time).  ``bare=True`` adds ``--bare``
     (the stage without its ``[network]`` in the AC analysis, :meth:`Inputs.stage`).
+    ``bare=True`` or ``network=True`` also adds every ``[network]`` key the command's own
+    selection does not hold, as ``--net-...`` (:func:`network_flag`): an option overrides the
+    file's table as every option overrides the file.
     """
     chosen = tuple(k.id for k in keys().values() if select(k))
+    prefixed = tuple(k.id for k in keys().values()
+                     if (bare or network) and NETWORK_KEYS(k) and k.id not in chosen)
+    chosen += prefixed
 
     def deco(func: Callable) -> Callable:
         import typing
@@ -111,7 +131,7 @@ def bias_options(select: Callable[[Key], bool] = MODEL_KEYS, file_help: str = FI
         hints = typing.get_type_hints(func, include_extras=True)
         own = [p.replace(annotation=hints.get(p.name, p.annotation), kind=inspect.Parameter.KEYWORD_ONLY)
                for p in sig.parameters.values() if p.name != "bias_in"]
-        extra = [_parameter(kid) for kid in chosen] + ([_bare_parameter()] if bare else [])
+        extra = [_parameter(kid, kid in prefixed) for kid in chosen] + ([_bare_parameter()] if bare else [])
 
         @functools.wraps(func)
         def wrapper(*args, **kwargs):
@@ -180,6 +200,16 @@ class Inputs:
         trial._model = None
         trial._bias = None
         return trial
+
+    def specs(self, options, results) -> list:
+        """The specifications of a spread: the bias file's ``[spec]`` table and the ``--spec`` texts.
+
+        Read by :func:`devmodels.worstcase.collect_specs` (the one reader): an option adds to the
+        table, or replaces the table's limits on the same result in the same direction.
+        """
+        from ..worstcase import collect_specs
+
+        return collect_specs(tuple(options or ()), self.tables.get("spec"), results)
 
     # -- raw access ---------------------------------------------------------------------------
     def given(self) -> bool:
@@ -375,7 +405,9 @@ class Inputs:
         return out
 
     def has_network(self) -> bool:
-        return "network" in self.tables
+        """True when a ``[network]`` table or any network option (``--net-...``, or ``bias``'s
+        ``--network``, ``--rc``, ...) is given."""
+        return "network" in self.tables or any(k.startswith("network.") for k in self.values)
 
     def _check_family(self) -> None:
         fam = self.family
@@ -427,10 +459,11 @@ class Inputs:
             return None
         kind = net.pop("type", None)
         if kind is None:
-            raise InputError("network: missing; give --network fixed|divider|collector-feedback "
-                             "or 'type' in the [network] table")
+            raise InputError("network: missing; give the network type fixed|divider|collector-feedback ('type' in "
+                             "the [network] table; --network on bias, --net-type on the stage commands)")
         if "vcc" not in net:
-            raise InputError("vcc: missing; give --vcc or 'vcc' in the [network] table (supply voltage in V)")
+            raise InputError("vcc: missing; give the supply voltage in V ('vcc' in the [network] table; --vcc on "
+                             "bias, --net-vcc on the stage commands)")
         network = BiasNetwork(kind=kind, tol=self.get("tol", 0.0), **net)
         if self.family == "bipolar":
             self._stage_network(network)  # the AC values are checked by every command that reads the table
@@ -667,9 +700,10 @@ class Inputs:
             if keys()[kid].panel == "datasheet":
                 raise InputError(f"{keys()[kid].name}: datasheet values at test conditions are not used by spread yet; "
                                  "give ft, cmu and beta limits at the bias point")
-        if any(keys()[kid].panel == "stagenet" for kid in self.values):
-            warn("network: spread analyses the transistor with rdeg and rfb only; the [network] table's "
-                 "capacitors and its resistors are not in its AC analysis yet (they are in gain and sweep)")
+        leads = [k for k in ("l_b", "l_c", "l_e") if self.get(k)]
+        if leads:
+            warn(f"{leads[0]}: spread analyses the transistor without its lead inductances ({', '.join(leads)}) "
+                 "yet; they are in gain, params and noise")
         beta = self.get("beta")
         bmin, bmax, btyp = self.get("beta_min"), self.get("beta_max"), self.get("beta_typ")
         if (bmin is None) != (bmax is None):
@@ -682,7 +716,7 @@ class Inputs:
         temp = self.get("temp", self.tref)
         ranges = SpreadRanges(beta_min=bmin, beta_max=bmax, beta_typ=btyp, temp_min=self.get("temp_min", temp),
                               temp_max=self.get("temp_max", temp), tol=self.get("tol", 0.0), samples=samples,
-                              seed=seed)
+                              seed=seed, ctol=self.get("ctol", 0.0))
         network = None
         ic = vce = None
         if self.has_network():
@@ -704,7 +738,8 @@ class Inputs:
             beta_tc=self.get("beta_tc", BETA_TC_DEFAULT), vce_sat=self.get("vce_sat", DEFAULT_VCE_SAT),
             va=self.get("va"), ft=self.get("ft"), cmu=self.get("cmu", 0.0), rb=self.get("rb", 0.0),
             rcx=self.get("rcx", 0.0), rex=self.get("rex", 0.0), rmu=self.get("rmu"), rdeg=self.get("rdeg"),
-            rfb=self.get("rfb"), z0=z0, pmax=pmax, vceo=vceo, t_ref=self.tref)
+            rfb=self.get("rfb"), z0=z0, pmax=pmax, vceo=vceo, t_ref=self.tref,
+            stage_network=None if network is None else self.stage_network())  # the stage gain analyses
         if network is not None:  # the library's checks of a network point (supply sign, vce_sat, vbe)
             self.operating_point(beta=bmin)
         from ..validate import check_number

@@ -79,7 +79,7 @@ def _trial_builder(bias_in: Inputs, kid: str, config: str | None):
 
 
 @command("solve")
-@bias_options(MODEL_KEYS)
+@bias_options(MODEL_KEYS, network=True)
 def solve_cmd(bias_in: Inputs, vary: _VaryOpt = None, target: _TargetOpt = None, config: ConfigOpt = None,
               freq: _SolveFreqOpt = DEFAULT_FREQ, rs: RsOpt = DEFAULT_RS, rl: RlOpt = DEFAULT_RL,
               series: _SeriesOpt = "E24", as_json: JsonOpt = False) -> None:
