@@ -420,4 +420,33 @@ def merge(options: Mapping[str, Any], flat: Mapping[str, Any], tables: Mapping[s
             w = temperature_warning(key.name, raw, v)
             if w:
                 warnings.append(w)
+        if key.name in USUAL and warnings is not None:
+            w = _unusual(key, raw, v)
+            if w:
+                warnings.append(w)
     return out
+
+
+#: Usual ranges of device values whose bare numbers are easy to mistype (``--ft 300`` for
+#: 300 MHz, ``--cmu 3`` for 3 pF): a value outside only warns (common practice, no source:
+#: small-signal transistors have fT of MHz to hundreds of GHz and junction capacitances of
+#: femto- to nanofarads).
+USUAL: dict[str, tuple[float, float, str]] = {
+    "ft": (1e5, 1e12, "MHz"),
+    **{name: (0.0, 1e-8, "pF") for name in ("cmu", "cob", "c_je", "cgs", "cgd", "csb", "cdb", "ciss", "crss",
+                                            "coss")},
+}
+
+
+def _unusual(key: Key, raw, v) -> str | None:
+    """A warning for a value outside :data:`USUAL`, with a hint where a bare number was written."""
+    lo, hi, prefix = USUAL[key.name]
+    if lo <= abs(v) <= hi:
+        return None
+    from .units import format_si
+
+    unit = "Hz" if key.unit == "Hz" else "F"
+    text = str(raw).strip()
+    hint = f"; did you mean {text}{prefix}?" if text.replace(".", "", 1).isdigit() else ""
+    return (f"{key.name}: {format_si(v, unit)} is outside the usual {format_si(lo, unit) if lo else '0'} to "
+            f"{format_si(hi, unit)} of a transistor{hint}")

@@ -374,3 +374,14 @@ def test_one_command_built_alone_equals_the_whole_group(capsys):
         assert [p.help for p in alone.params if hasattr(p, "help")] == \
                [p.help for p in inside.params if hasattr(p, "help")], name
         assert type(alone) is type(inside), name
+
+
+def test_bare_numbers_outside_the_usual_range_warn_with_a_hint(run):
+    """--ft 300 (300 Hz, most likely meant as 300 MHz) and a 20 nF gate capacitance are taken,
+    with a warning naming the usual range (common practice, no source); usual values do not warn."""
+    code, _, err = run("model", "--ic", "1mA", "--vce", "5", "--beta", "100", "--ft", "300")
+    assert code == 0 and "devmodels: warning: ft: 300 Hz is outside the usual" in err and "did you mean 300MHz?" in err
+    code, _, err = run("model", "--device", "nmos", "--id", "1mA", "--vds", "5", "--vov", "0.2", "--cgs", "20nF")
+    assert code == 0 and "devmodels: warning: cgs: 20 nF is outside the usual" in err and "did you mean" not in err
+    code, _, err = run("model", "--ic", "1mA", "--vce", "5", "--beta", "100", "--ft", "300MHz", "--cmu", "2pF")
+    assert code == 0 and "warning" not in err
