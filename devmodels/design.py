@@ -186,10 +186,14 @@ class BiasDesign:
 
     def as_dict(self) -> dict:
         """The JSON object of ``devmodels design``: ``network``, ``series``, ``ic``, ``vce``,
-        ``beta``, ``vbe``, ``worst`` (SI floats)."""
+        ``beta``, ``vbe``, ``worst`` (SI floats), then ``ve`` (V), ``divider_ratio``, ``rule``,
+        ``notes`` and ``warnings`` (the rating sentences), so that a script sees what the table
+        and stderr say."""
         return {"network": dict(self.network.resistors), "series": self.series, "ic": self.ic,
                 "vce": self.vce, "beta": self.beta, "vbe": self.vbe,
-                "worst": {k: dict(v) for k, v in self.worst.items()}}
+                "worst": {k: dict(v) for k, v in self.worst.items()},
+                "ve": self.ve, "divider_ratio": self.divider_ratio, "rule": self.rule,
+                "notes": list(self.notes), "warnings": list(self.warnings)}
 
 
 def _positive(name: str, v, unit: str) -> float:

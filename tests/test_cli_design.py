@@ -33,7 +33,9 @@ def _in_series(value: float, series: str) -> bool:
 @pytest.mark.parametrize("network", list(RESISTORS))
 def test_values_are_series_members(run_json, network, series):
     got = run_json("design", "--network", network, "--vcc", "12", "--ic", "1mA", "--series", series, *LIMITS)
-    assert list(got) == ["network", "series", "ic", "vce", "beta", "vbe", "worst"]
+    # the interface keys first, then the ones devmodels adds (the rule and the warnings)
+    assert list(got) == ["network", "series", "ic", "vce", "beta", "vbe", "worst",
+                         "ve", "divider_ratio", "rule", "notes", "warnings"]
     assert list(got["network"]) == RESISTORS[network] and got["series"] == series
     for name, v in got["network"].items():
         assert _in_series(v, series), (name, v)
@@ -276,3 +278,18 @@ def _write(run_json, tmp_path):
     path = tmp_path / "plain.toml"
     run_json("design", *WIDE, "--out", str(path))
     return path
+
+
+def test_json_carries_the_rule_and_the_warnings(run):
+    """design --json holds what the table and stderr say: the rule verdict with VE and the
+    divider ratio of the chosen parts, and the rating warnings (the same sentences as stderr)."""
+    code, out, err = run("design", "--network", "divider", "--vcc", "9", "--ic", "2mA", "--beta-min", "80",
+                         "--beta-max", "250", "--series", "E12", "--pmax", "5mW", "--json")
+    assert code == 0
+    d = json.loads(out)
+    assert d["rule"] == "met" and d["notes"] == []
+    assert d["warnings"] and all(f"devmodels: warning: {w}" in err for w in d["warnings"])
+    # VE = IE RE at the chosen parts' nominal point, about a tenth of the supply (common practice)
+    re = d["network"]["re"]
+    assert d["ve"] == pytest.approx(d["ic"] * (1 + 1 / d["beta"]) * re, rel=1e-9)
+    assert 0.05 < d["ve"] / 9 < 0.15 and d["divider_ratio"] >= 10

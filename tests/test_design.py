@@ -220,10 +220,11 @@ def test_worst_case_is_the_vertex_enumeration_of_the_chosen_parts():
         assert w[r]["worst_max"] == pytest.approx(d.worst[r]["max"], rel=1e-12)
 
 
-def test_as_dict_has_exactly_the_interface_keys():
+def test_as_dict_has_the_interface_keys_then_its_own():
     d = design_bias("collector-feedback", 12.0, 1e-3, series="E12", beta_min=100, beta_max=300)
     out = d.as_dict()
-    assert set(out) == {"network", "series", "ic", "vce", "beta", "vbe", "worst"}
+    assert list(out) == ["network", "series", "ic", "vce", "beta", "vbe", "worst",
+                         "ve", "divider_ratio", "rule", "notes", "warnings"]
     assert set(out["network"]) == {"rb", "rc", "re"}
     assert out["worst"].keys() == {"ic", "vce"} and out["worst"]["ic"].keys() == {"min", "max"}
     json.dumps(out)  # plain floats and strings
