@@ -180,6 +180,8 @@ class SpreadSetup:
         Early voltage (V) and transition frequency (Hz); ``None`` for none.
     cmu, rb, rcx, rex : float
         C_mu (F) and the ohmic resistances (ohm).
+    l_b, l_c, l_e : float
+        Lead inductances in H (0: none); a short at 0 Hz, so left out there.
     rmu : float or None
         r_mu in ohm; ``None`` for none.
     rdeg, rfb : float or None
@@ -217,6 +219,9 @@ class SpreadSetup:
     rb: float = 0.0
     rcx: float = 0.0
     rex: float = 0.0
+    l_b: float = 0.0
+    l_c: float = 0.0
+    l_e: float = 0.0
     rmu: float | None = None
     rdeg: float | None = None
     rfb: float | None = None
@@ -667,6 +672,8 @@ class FetSpreadSetup:
         Capacitances in F.
     rg, rdx, rsx : float
         Gate, drain and source series resistances in ohm.
+    l_g, l_d, l_s : float
+        Lead inductances in H (0: none); a short at 0 Hz, so left out there.
     rdeg, rfb : float or None
         External source degeneration and drain-gate feedback resistors (ohm), toleranced.
     z0 : (float, float)
@@ -697,6 +704,9 @@ class FetSpreadSetup:
     rg: float = 0.0
     rdx: float = 0.0
     rsx: float = 0.0
+    l_g: float = 0.0
+    l_d: float = 0.0
+    l_s: float = 0.0
     rdeg: float | None = None
     rfb: float | None = None
     z0: tuple[float, float] = (50.0, 50.0)
@@ -822,7 +832,8 @@ class FetSpreadSetup:
         gmb = v["gmb"] if np.ndim(v["gmb"]) == 0 else np.broadcast_to(v["gmb"], (n,))
         ro = v["ro"]
         model = FetModel(gm=gm, gmb=gmb, ro=ro, cgs=self.cgs, cgd=self.cgd, csb=self.csb, cdb=self.cdb,
-                         rg=self.rg, rdx=self.rdx, rsx=self.rsx, device=self.device)
+                         rg=self.rg, rdx=self.rdx, rsx=self.rsx, device=self.device,
+                         **_leads(self, ("l_g", "l_d", "l_s")))
         res = {name: nominal * np.asarray(points.get(name, 1.0), dtype=float)
                for name, nominal in self.resistors.items()}
         built = None if self.stage_network is None else self.stage_network.with_resistors(
@@ -993,6 +1004,12 @@ class SpreadResult:
         return out
 
 
+def _leads(setup, names: tuple[str, ...]) -> dict[str, float]:
+    """The lead inductances of a setup for its model: as given above 0 Hz, none at 0 Hz (an
+    inductor is a short there, which the admittance engine cannot hold)."""
+    return {name: getattr(setup, name) if setup.freq > 0 else 0.0 for name in names}
+
+
 def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] | None = None) -> dict:
     """Every result for arrays of samples (vectorised over the leading axis).
 
@@ -1056,7 +1073,7 @@ def evaluate(setup: SpreadSetup, beta_ref, temp, factors: dict[str, np.ndarray] 
     model = HybridPi(gm=pick(v["gm"]), r_pi=pick(v["r_pi"]),
                      ro=v["ro"] if np.ndim(v["ro"]) == 0 else pick(v["ro"]), c_pi=pick(c_pi),
                      c_mu=setup.cmu, rb=setup.rb, r_mu=math.inf if setup.rmu is None else setup.rmu,
-                     rcx=setup.rcx, rex=setup.rex, vt=pick(v["vt"]))
+                     rcx=setup.rcx, rex=setup.rex, vt=pick(v["vt"]), **_leads(setup, ("l_b", "l_c", "l_e")))
     rfb = res.get("rfb")
     if built is not None and not every:
         built = _sampled_network(setup, res, factors, pick)

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import dataclasses
 import itertools
+import json
 
 import numpy as np
 import pytest
@@ -343,3 +344,34 @@ def test_fet_capacitor_tolerance():
         lo, hi = res.worst[name]["worst_min"], res.worst[name]["worst_max"]
         if v.size:
             assert lo - 1e-12 * abs(lo) <= v.min() and v.max() <= hi + 1e-12 * abs(hi), name
+
+
+@pytest.mark.parametrize("args,gain_args", [
+    (["--ic", "1mA", "--vce", "5", "--beta", "100", "--ft", "300MHz", "--cmu", "2p", "--rb", "80",
+      "--l-b", "2nH", "--l-e", "0.7nH", "--l-c", "1nH"], None),
+    (["--device", "nmos", "--id", "5mA", "--vds", "3", "--cgs", "1p", "--cgd", "0.2p",
+      "--l-g", "1.5nH", "--l-s", "0.4nH", "--l-d", "1nH", "--kn-min", "0.16", "--kn-max", "0.16"],
+     ["--device", "nmos", "--id", "5mA", "--vds", "3", "--kn", "0.16", "--cgs", "1p", "--cgd", "0.2p",
+      "--l-g", "1.5nH", "--l-s", "0.4nH", "--l-d", "1nH"]),
+])
+def test_lead_inductances_reach_the_spread(args, gain_args):
+    """A spread with every limit fixed equals gain at the same point with the same lead
+    inductances (and differs from the spread without them): the leads are in the samples' model."""
+    from devmodels.cli import main as cli_main
+    import contextlib
+    import io
+
+    def run_json(*a):
+        buf = io.StringIO()
+        with contextlib.redirect_stdout(buf):
+            assert cli_main([*a, "--json"]) == 0
+        return json.loads(buf.getvalue())
+
+    common = ["--rs", "50", "--rl", "200"]
+    s = run_json("spread", *args, *common, "--freq", "500MHz", "-n", "50", "--seed", "2")
+    g = run_json("gain", *(gain_args or args), *common, "-f", "500MHz")["points"][0]
+    av = abs(complex(*g["av"]))
+    assert s["av"]["min"] == pytest.approx(av, rel=1e-9, abs=0) and s["av"]["max"] == pytest.approx(av, rel=1e-9, abs=0)
+    without = [a for i, a in enumerate(args) if not (a.startswith("--l-") or (i and args[i - 1].startswith("--l-")))]
+    s0 = run_json("spread", *without, *common, "--freq", "500MHz", "-n", "50", "--seed", "2")
+    assert abs(s0["av"]["p50"] / s["av"]["p50"] - 1) > 1e-3

@@ -287,6 +287,7 @@ def _fet_spread(bias_in: Inputs, texts: dict[str, str], config: str, freq: float
         gamma=None if fam == "jfet" else bias_in.get("gamma"), vsb=abs(bias_in.get("vsb", 0.0)),
         two_phi_f=bias_in.get("two_phi_f", 0.7), cgs=bias_in.get("cgs", 0.0), cgd=bias_in.get("cgd", 0.0),
         csb=bias_in.get("csb", 0.0), cdb=bias_in.get("cdb", 0.0), rg=bias_in.get("rg", 0.0),
+        l_g=bias_in.get("l_g", 0.0), l_d=bias_in.get("l_d", 0.0), l_s=bias_in.get("l_s", 0.0),
         rdeg=bias_in.get("rdeg"), rfb=bias_in.get("rfb"), z0=z0,
         stage_network=bias_in.stage_network())  # the stage as built, as gain analyses it (ID, VDS fixed)
     setup.limits(ranges)  # the checks of the limits against ID and VDS, before any sample is drawn

@@ -700,10 +700,6 @@ class Inputs:
             if keys()[kid].panel == "datasheet":
                 raise InputError(f"{keys()[kid].name}: datasheet values at test conditions are not used by spread yet; "
                                  "give ft, cmu and beta limits at the bias point")
-        leads = [k for k in ("l_b", "l_c", "l_e") if self.get(k)]
-        if leads:
-            warn(f"{leads[0]}: spread analyses the transistor without its lead inductances ({', '.join(leads)}) "
-                 "yet; they are in gain, params and noise")
         beta = self.get("beta")
         bmin, bmax, btyp = self.get("beta_min"), self.get("beta_max"), self.get("beta_typ")
         if (bmin is None) != (bmax is None):
@@ -738,6 +734,7 @@ class Inputs:
             beta_tc=self.get("beta_tc", BETA_TC_DEFAULT), vce_sat=self.get("vce_sat", DEFAULT_VCE_SAT),
             va=self.get("va"), ft=self.get("ft"), cmu=self.get("cmu", 0.0), rb=self.get("rb", 0.0),
             rcx=self.get("rcx", 0.0), rex=self.get("rex", 0.0), rmu=self.get("rmu"), rdeg=self.get("rdeg"),
+            l_b=self.get("l_b", 0.0), l_c=self.get("l_c", 0.0), l_e=self.get("l_e", 0.0),
             rfb=self.get("rfb"), z0=z0, pmax=pmax, vceo=vceo, t_ref=self.tref,
             stage_network=None if network is None else self.stage_network())  # the stage gain analyses
         if network is not None:  # the library's checks of a network point (supply sign, vce_sat, vbe)
