@@ -198,11 +198,28 @@ def parse_quantity(text, unit: str, name: str) -> float:
     num, sep, rest = m.groups()
     factor = _scale(rest, u.aliases)
     if factor is None:
-        raise _bad_unit(name, unit, s, num, sep, rest)
+        rkm = _letter_code(num, sep, rest, unit)
+        if rkm is None:
+            raise _bad_unit(name, unit, s, num, sep, rest)
+        num, factor = rkm
     v = float(num) * factor
     if not math.isfinite(v):
         raise InputError(f"{name}: {shown(s)} is too large to be a number")
     return v
+
+
+def _letter_code(num: str, sep: str, rest: str, unit: str) -> tuple[str, float] | None:
+    """The letter-and-digit code of drawings and part markings (the RKM code of IEC 60062):
+    ``4k7`` = 4.7k, ``2p2`` = 2.2p, ``1M5`` = 1.5M, and for a resistance ``4R7`` = 4.7 ohm: the
+    prefix letter (or R) stands where the decimal point would.  ``(number, factor)`` or None."""
+    if sep or not num.isdigit() or len(rest) < 2 or not rest[1:].isdigit():
+        return None
+    letter = rest[0]
+    if letter in _SI_PREFIX:
+        return f"{num}.{rest[1:]}", _SI_PREFIX[letter]
+    if letter == "R" and unit == "Ohm":
+        return f"{num}.{rest[1:]}", 1.0
+    return None
 
 
 def _examples(unit: str) -> str:

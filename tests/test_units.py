@@ -157,3 +157,26 @@ def test_kelvin_is_shown_without_a_prefix(value, text):
 
     assert format_si(value, "K") == text
     assert format_si(9130.4, "Ω") == "9.13 kΩ"  # other units keep their prefixes
+
+
+@pytest.mark.parametrize("text,decimal,unit,want", [
+    ("4k7", "4.7k", "Ohm", 4.7e3), ("4K7", "4.7k", "Ohm", 4.7e3), ("1M5", "1.5M", "Ohm", 1.5e6),
+    ("4R7", "4.7", "Ohm", 4.7), ("2p2", "2.2p", "F", 2.2e-12), ("1m5", "1.5m", "A", 1.5e-3),
+    ("3n3", "3.3n", "H", 3.3e-9),
+])
+def test_letter_and_digit_code(text, decimal, unit, want):
+    # the RKM code of IEC 60062 (a letter in place of the decimal point), as drawings and parts
+    # are marked: the same value as the decimal form, to the last digit
+    from devmodels.units import parse_quantity
+
+    assert parse_quantity(text, unit, "x") == parse_quantity(decimal, unit, "x")
+    assert parse_quantity(text, unit, "x") == pytest.approx(want, rel=1e-15, abs=0)
+
+
+@pytest.mark.parametrize("text,unit", [("4R7", "F"), ("4k7k", "Ohm"), ("k47", "Ohm"), ("4 k7", "Ohm"), ("4x7", "Ohm")])
+def test_letter_code_is_strict(text, unit):
+    from devmodels.exceptions import InputError
+    from devmodels.units import parse_quantity
+
+    with pytest.raises(InputError, match="^x: "):
+        parse_quantity(text, unit, "x")
