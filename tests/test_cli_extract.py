@@ -20,6 +20,7 @@ import pytest
 import skrf
 
 from devmodels.cli import main
+from twoport_files import write_touchstone, y_to_s
 
 BJT = {"gm": 0.08, "r_pi": 1500.0, "c_pi": 30e-12, "c_mu": 1.5e-12, "rb": 80.0, "ro": 30e3}
 FET = {"gm": 0.03, "cgs": 0.8e-12, "cgd": 0.1e-12, "ro": 5e3, "rg": 12.0}
@@ -65,18 +66,8 @@ def nodal_y(el: dict, freq: np.ndarray, config: str) -> np.ndarray:
     return Gkk - Gki @ np.linalg.solve(Gii, Gik)
 
 
-def y_to_s(y: np.ndarray, z0: float = 50.0) -> np.ndarray:
-    one = np.eye(2)
-    return (one - z0 * y) @ np.linalg.inv(one + z0 * y)
 
 
-def write_touchstone(folder: Path, name: str, freq: np.ndarray, s: np.ndarray) -> Path:
-    """A Touchstone file written by scikit-rf (``name`` without extension)."""
-    net = skrf.Network(frequency=skrf.Frequency.from_f(freq, unit="Hz"), s=s, z0=50)
-    net.write_touchstone(filename=name, dir=str(folder))
-    path = folder / f"{name}.s{s.shape[1]}p"
-    assert path.exists()
-    return path
 
 
 def device_file(folder: Path, config: str = "ce", freq: np.ndarray = FREQ, name: str = "dut") -> Path:

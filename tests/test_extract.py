@@ -24,6 +24,7 @@ import devmodels as dm
 from devmodels.exceptions import FileFormatError, InputError
 from devmodels.extract import (ExtractionWarning, bias_consistency, bias_toml, direct_estimates, extract,
                                model_y, plot_fit, transit_time)
+from twoport_files import noisy
 
 import skrf  # noqa: E402
 
@@ -86,11 +87,6 @@ def write_s2p(tmp_path: Path, name: str, freq: np.ndarray, s: np.ndarray) -> Pat
     return path
 
 
-def noisy(s: np.ndarray, rel: float, seed: int) -> np.ndarray:
-    """Each S parameter times (1 + complex Gaussian noise of rms ``rel``)."""
-    rng = np.random.default_rng(seed)
-    n = (rng.standard_normal(s.shape) + 1j * rng.standard_normal(s.shape)) / math.sqrt(2)
-    return s * (1 + rel * n)
 
 
 FREQ = np.logspace(6, math.log10(3e9), 201)        # 1 MHz to 3 GHz; fT = 400 MHz

@@ -19,12 +19,12 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-import skrf
 
 import devmodels as dm
 from devmodels.cli import main
 from devmodels.exceptions import InputError
 from devmodels.extract import ExtractionWarning, bias_toml, extract
+from twoport_files import noisy, write_touchstone, y_to_s
 
 LEADS = ("rex", "l_b", "l_c", "l_e")
 TRUE = {"gm": 0.08, "r_pi": 1500.0, "c_pi": 30e-12, "c_mu": 1.5e-12, "rb": 80.0, "ro": 30e3, "rex": 2.0,
@@ -66,25 +66,10 @@ def nodal_y(el: dict, freq: np.ndarray, config: str = "ce") -> np.ndarray:
     return Gkk - Gki @ np.linalg.solve(Gii, Gik)
 
 
-def y_to_s(y: np.ndarray, z0: float = 50.0) -> np.ndarray:
-    one = np.eye(2)
-    return (one - z0 * y) @ np.linalg.inv(one + z0 * y)
 
 
-def write_s2p(folder: Path, name: str, freq: np.ndarray, s: np.ndarray) -> Path:
-    """A Touchstone file written by scikit-rf."""
-    net = skrf.Network(frequency=skrf.Frequency.from_f(freq, unit="Hz"), s=s, z0=50)
-    net.write_touchstone(filename=name, dir=str(folder))
-    path = folder / f"{name}.s2p"
-    assert path.exists()
-    return path
 
 
-def noisy(s: np.ndarray, rel: float, seed: int) -> np.ndarray:
-    """Each S parameter times (1 + complex Gaussian noise of rms ``rel``)."""
-    rng = np.random.default_rng(seed)
-    n = (rng.standard_normal(s.shape) + 1j * rng.standard_normal(s.shape)) / math.sqrt(2)
-    return s * (1 + rel * n)
 
 
 def fit(source, config="ce", parasitics=LEADS, **kw):
@@ -110,7 +95,7 @@ def assert_one_error(code: int, out: str, err: str, start: str) -> None:
 
 @pytest.mark.parametrize("config", ["ce", "cb", "cc"])
 def test_leads_recovered_without_noise(tmp_path, config):
-    path = write_s2p(tmp_path, f"packaged_{config}", FREQ, y_to_s(nodal_y(TRUE, FREQ, config)))
+    path = write_touchstone(tmp_path, f"packaged_{config}", FREQ, y_to_s(nodal_y(TRUE, FREQ, config)))
     res = fit(path, config)
     assert res.warnings == () and res.plausible
     for k, v in TRUE.items():
@@ -122,7 +107,7 @@ def test_leads_recovered_without_noise(tmp_path, config):
 def test_leads_within_their_uncertainty_with_noise(tmp_path):
     """0.5 % noise: every element within 3 of its reported standard uncertainties."""
     s = noisy(y_to_s(nodal_y(TRUE, FREQ)), 0.005, seed=11)
-    res = fit(write_s2p(tmp_path, "noisy", FREQ, s))
+    res = fit(write_touchstone(tmp_path, "noisy", FREQ, s))
     for k, v in TRUE.items():
         u = res.uncertainty[k]
         assert 0 < u < 0.2 * v, k
@@ -245,7 +230,7 @@ def fet_nodal_y(el: dict, freq: np.ndarray, config: str) -> np.ndarray:
 @pytest.mark.parametrize("config", ["cs", "cg", "cd"])
 def test_fet_leads_recovered(tmp_path, config):
     f = np.logspace(7, math.log10(3e10), 201)                      # fT about 5 GHz
-    path = write_s2p(tmp_path, f"fet_{config}", f, y_to_s(fet_nodal_y(FET, f, config)))
+    path = write_touchstone(tmp_path, f"fet_{config}", f, y_to_s(fet_nodal_y(FET, f, config)))
     res = fit(path, config, parasitics=("rsx", "l_g", "l_d", "l_s"))
     assert res.warnings == () and res.plausible
     for k, v in FET.items():
@@ -273,7 +258,7 @@ def test_bias_file_with_leads_reproduces_the_fit(tmp_path):
 
 
 def test_extract_out_then_gain_and_params_read_the_leads(tmp_path, capsys):
-    src = write_s2p(tmp_path, "packaged", FREQ, y_to_s(nodal_y(TRUE, FREQ)))
+    src = write_touchstone(tmp_path, "packaged", FREQ, y_to_s(nodal_y(TRUE, FREQ)))
     dest = tmp_path / "fitted.toml"
     code, out, err = run(capsys, "extract", src, "--parasitics", "rex,l_b,l_c,l_e", "--out", dest, "--vce", "5V",
                          "--json")
@@ -318,7 +303,7 @@ def law_files(folder: Path, ics=ICS) -> list[Path]:
         gm = i / vt
         ft = 1 / (2 * math.pi * (TAU + (C_JE + C_MU) * vt / i))
         el = dict(TRUE, gm=gm, r_pi=120 / gm, c_mu=C_MU, c_pi=gm / (2 * math.pi * ft) - C_MU)
-        out.append(write_s2p(folder, f"at_{i * 1e6:.0f}uA", FREQ, y_to_s(nodal_y(el, FREQ))))
+        out.append(write_touchstone(folder, f"at_{i * 1e6:.0f}uA", FREQ, y_to_s(nodal_y(el, FREQ))))
     return out
 
 
@@ -359,7 +344,7 @@ def test_several_files_bad_input_is_one_line(tmp_path, capsys, monkeypatch, nfil
 
 
 def test_a_lead_inductance_held_on_the_command_line(tmp_path, capsys):
-    src = write_s2p(tmp_path, "packaged", FREQ, y_to_s(nodal_y(TRUE, FREQ)))
+    src = write_touchstone(tmp_path, "packaged", FREQ, y_to_s(nodal_y(TRUE, FREQ)))
     code, out, err = run(capsys, "extract", src, "--parasitics", "rex,l_b,l_c,l_e", "--fix", "l_b=1.5nH", "--json")
     assert code == 0, err
     d = json.loads(out)
