@@ -114,7 +114,7 @@ def reconfigure(tp: TwoPort, src: str, dst: str, kind: str | None = None) -> Two
         y = tp.to("y").data
     except SingularParameterError as exc:
         raise SingularParameterError(
-            f"reconfigure needs the Y parameters of the device, which do not exist ({exc})") from None
+            f"tp: reconfiguring needs the Y parameters of the device, which do not exist ({exc})") from None
     y_new = config_y(indefinite_from_y(y, src), dst)
     out = TwoPort(tp.freq, y_new, "y", tp.z0, dst, tp.label)
     return out.to(kind or tp.kind)

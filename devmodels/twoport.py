@@ -95,8 +95,8 @@ class TwoPort:
         if m and self.freq is not None:
             f = self.freq[int(m.group(1))]
             msg = msg.replace(m.group(0), f"at {f:g} Hz")
-        elif m:
-            msg = msg.replace(" " + m.group(0), "")
+        elif m:  # no frequency to name: drop the point with its comma ("det Z = 0, at point 0;")
+            msg = re.sub(r",? at point \d+", "", msg, count=1)
         return msg
 
     def element(self, name: str) -> np.ndarray:

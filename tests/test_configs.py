@@ -84,3 +84,10 @@ def test_to_skrf_network_round_trip():
     np.testing.assert_allclose(net.f, tp.freq)
     # scikit-rf's own y from the network equals ours
     np.testing.assert_allclose(net.y, tp.to("y").data, rtol=1e-8)
+
+
+def test_reconfigure_without_y_names_the_value():
+    # det Z = 0: the Y parameters do not exist (Y = Z^-1), so the indefinite matrix cannot be formed
+    tp = dm.TwoPort(None, np.array([[[1.0, 1.0], [1.0, 1.0]]]), "z")
+    with pytest.raises(dm.SingularParameterError, match=r"^tp: reconfiguring needs the Y parameters"):
+        dm.reconfigure(tp, "ce", "cb")

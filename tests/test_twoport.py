@@ -90,3 +90,16 @@ def test_conversions_keep_the_checked_frequencies():
         out = tp.to(kind)
         np.testing.assert_array_equal(out.freq, tp.freq)
         assert np.all(np.isfinite(out.data))
+
+
+def test_singular_message_without_frequency_reads_cleanly():
+    # det Z = 0: no Y parameters (Y = Z^-1); with no frequency to name, the point is dropped
+    # with its comma
+    tp = dm.TwoPort(None, np.array([[[1.0, 1.0], [1.0, 1.0]]]), "z")
+    with pytest.raises(dm.SingularParameterError) as err:
+        tp.to("y")
+    assert str(err.value) == ("y: the Y parameters do not exist for this two-port (Z is singular: det Z = 0; "
+                              "converting Z to Y)")
+    tf = dm.TwoPort(np.array([5e3]), np.array([[[1.0, 1.0], [1.0, 1.0]]]), "z")
+    with pytest.raises(dm.SingularParameterError, match=r"det Z = 0, at 5000 Hz; converting Z to Y"):
+        tf.to("y")
