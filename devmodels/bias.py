@@ -11,7 +11,7 @@ from dataclasses import dataclass, field
 from typing import Literal
 
 from .exceptions import BiasError, InputError
-from .validate import check_number as _finite, meta, p_type_magnitudes
+from .validate import check_number as _finite, lead_meta, meta, p_type_magnitudes
 
 __all__ = ["BipolarBias", "DEFAULT_VCE_SAT", "DEFAULT_TEMP"]
 
@@ -79,12 +79,9 @@ class BipolarBias:
     rex: float = field(default=0.0, metadata=meta("Ohm", "Emitter ohmic resistance, ohm (default 0).", 1e-6, 1e12))
     vce_sat: float = field(default=DEFAULT_VCE_SAT, metadata=meta(
         "V", "VCE below which the point counts as saturated, V (default 0.3 V).", 1e-6, 100.0))
-    l_b: float = field(default=0.0, metadata=meta(
-        "H", "Base lead inductance, H (e.g. 1.2nH), in series with the base terminal (default 0).", 1e-15, 1e-3))
-    l_c: float = field(default=0.0, metadata=meta(
-        "H", "Collector lead inductance, H, in series with the collector terminal (default 0).", 1e-15, 1e-3))
-    l_e: float = field(default=0.0, metadata=meta(
-        "H", "Emitter lead inductance, H, in series with the emitter terminal (default 0).", 1e-15, 1e-3))
+    l_b: float = field(default=0.0, metadata=lead_meta("base", "1.2nH"))
+    l_c: float = field(default=0.0, metadata=lead_meta("collector"))
+    l_e: float = field(default=0.0, metadata=lead_meta("emitter"))
 
     def __post_init__(self) -> None:
         if self.device not in ("npn", "pnp"):

@@ -43,7 +43,7 @@ from dataclasses import dataclass, field
 from typing import Literal
 
 from .exceptions import BiasError, InputError
-from .validate import check_number as _num, meta, p_type_magnitudes
+from .validate import check_number as _num, lead_meta, meta, p_type_magnitudes
 
 __all__ = ["MosfetBias", "JfetBias", "FET_DEVICES", "DEFAULT_SURFACE_POTENTIAL"]
 
@@ -131,12 +131,9 @@ class MosfetBias:
     csb: float = field(default=0.0, metadata=meta("F", "Source-body capacitance, F (default 0).", 1e-18, 1.0))
     cdb: float = field(default=0.0, metadata=meta("F", "Drain-body capacitance, F (default 0).", 1e-18, 1.0))
     rg: float = field(default=0.0, metadata=meta("Ohm", "Gate resistance, ohm (default 0).", 1e-6, 1e12))
-    l_g: float = field(default=0.0, metadata=meta(
-        "H", "Gate lead inductance, H (e.g. 1nH), in series with the gate terminal (default 0).", 1e-15, 1e-3))
-    l_d: float = field(default=0.0, metadata=meta(
-        "H", "Drain lead inductance, H, in series with the drain terminal (default 0).", 1e-15, 1e-3))
-    l_s: float = field(default=0.0, metadata=meta(
-        "H", "Source lead inductance, H, in series with the source terminal (default 0).", 1e-15, 1e-3))
+    l_g: float = field(default=0.0, metadata=lead_meta("gate", "1nH"))
+    l_d: float = field(default=0.0, metadata=lead_meta("drain"))
+    l_s: float = field(default=0.0, metadata=lead_meta("source"))
 
     def __post_init__(self) -> None:
         _check_common(self, ("nmos", "pmos"), "MOSFET")
@@ -203,12 +200,9 @@ class JfetBias:
     csb: float = field(default=0.0, metadata=meta("F", "Source-body capacitance, F (default 0).", 1e-18, 1.0))
     cdb: float = field(default=0.0, metadata=meta("F", "Drain-body capacitance, F (default 0).", 1e-18, 1.0))
     rg: float = field(default=0.0, metadata=meta("Ohm", "Gate resistance, ohm (default 0).", 1e-6, 1e12))
-    l_g: float = field(default=0.0, metadata=meta(
-        "H", "Gate lead inductance, H (e.g. 1nH), in series with the gate terminal (default 0).", 1e-15, 1e-3))
-    l_d: float = field(default=0.0, metadata=meta(
-        "H", "Drain lead inductance, H, in series with the drain terminal (default 0).", 1e-15, 1e-3))
-    l_s: float = field(default=0.0, metadata=meta(
-        "H", "Source lead inductance, H, in series with the source terminal (default 0).", 1e-15, 1e-3))
+    l_g: float = field(default=0.0, metadata=lead_meta("gate", "1nH"))
+    l_d: float = field(default=0.0, metadata=lead_meta("drain"))
+    l_s: float = field(default=0.0, metadata=lead_meta("source"))
 
     def __post_init__(self) -> None:
         _check_common(self, ("njfet", "pjfet"), "JFET")

@@ -6,7 +6,7 @@ import math
 
 from .exceptions import BiasError, InputError
 
-__all__ = ["check_number", "p_type_magnitudes", "meta"]
+__all__ = ["check_number", "p_type_magnitudes", "meta", "lead_meta"]
 
 
 def check_number(name: str, value, unit: str, *, positive: bool = False, nonneg: bool = False,
@@ -87,3 +87,19 @@ def meta(unit: str, help: str, lo: float, hi: float, *, zero: bool = True, key: 
         (``lambda`` for ``lambda_``).
     """
     return {"schema": {"unit": unit, "help": help, "lo": lo, "hi": hi, "zero": zero, "key": key}}
+
+
+def lead_meta(terminal: str, example: str = "") -> dict:
+    """Field metadata of a lead inductance (one text for every device's leads).
+
+    Parameters
+    ----------
+    terminal : str
+        The terminal's name (``base``, ``gate``, ...).
+    example : str
+        An example value for the help text (``1.2nH``), or empty.
+    """
+    eg = f" (e.g. {example})" if example else ""
+    return meta("H", f"{terminal.capitalize()} lead inductance, H{eg}, in series with the {terminal} terminal "
+                "(default 0).", 1e-15, 1e-3)
+

@@ -134,3 +134,17 @@ def test_without_leads_is_the_model_at_0_hz():
         dm.HybridPi(gm=0.04, r_pi=2500.0, l_b=-1e-9)
     with pytest.raises(dm.InputError, match="l_e: expected a value >= 0"):
         dm.BipolarBias(ic=1e-3, vce=5.0, beta=100, l_e=-1e-9)
+
+
+def test_lead_inductance_keys_share_one_description():
+    """Every device's lead inductances are one schema entry each, in henry, with one help text
+    (validate.lead_meta), so the bipolar and FET options cannot drift apart."""
+    from devmodels.schema import keys
+
+    ks = keys()
+    for name, terminal in (("l_b", "base"), ("l_c", "collector"), ("l_e", "emitter"), ("l_g", "gate"),
+                           ("l_d", "drain"), ("l_s", "source")):
+        k = ks[name]
+        assert k.unit == "H" and k.bounds.lo == 1e-15 and k.bounds.hi == 1e-3
+        assert k.help.startswith(f"{terminal.capitalize()} lead inductance, H")
+        assert f"in series with the {terminal} terminal (default 0)." in k.help
