@@ -53,6 +53,14 @@ FET_DEVICES: tuple[str, ...] = ("nmos", "pmos", "njfet", "pjfet")
 DEFAULT_SURFACE_POTENTIAL = 0.7
 
 
+def _cap_meta(between: str) -> dict:
+    """Field metadata of a FET capacitance (one text for the MOSFET and the JFET)."""
+    return meta("F", f"{between} capacitance, F (default 0).", 1e-18, 1.0)
+
+
+_RG_META = meta("Ohm", "Gate resistance, ohm (default 0).", 1e-6, 1e12)
+
+
 def _check_common(obj, device_set: tuple[str, ...], family: str) -> None:
     if obj.device not in device_set:
         raise InputError(f"device: expected {' or '.join(device_set)} for a {family} bias point, "
@@ -126,11 +134,11 @@ class MosfetBias:
     vsb: float = field(default=0.0, metadata=meta("V", "MOSFET source-body voltage, V (default 0).", 1e-9, 1e4))
     two_phi_f: float = field(default=DEFAULT_SURFACE_POTENTIAL, metadata=meta(
         "V", "MOSFET surface potential 2 phi_F (twice the Fermi potential), V (default 0.7 V).", 1e-3, 10.0))
-    cgs: float = field(default=0.0, metadata=meta("F", "Gate-source capacitance, F (default 0).", 1e-18, 1.0))
-    cgd: float = field(default=0.0, metadata=meta("F", "Gate-drain capacitance, F (default 0).", 1e-18, 1.0))
-    csb: float = field(default=0.0, metadata=meta("F", "Source-body capacitance, F (default 0).", 1e-18, 1.0))
-    cdb: float = field(default=0.0, metadata=meta("F", "Drain-body capacitance, F (default 0).", 1e-18, 1.0))
-    rg: float = field(default=0.0, metadata=meta("Ohm", "Gate resistance, ohm (default 0).", 1e-6, 1e12))
+    cgs: float = field(default=0.0, metadata=_cap_meta("Gate-source"))
+    cgd: float = field(default=0.0, metadata=_cap_meta("Gate-drain"))
+    csb: float = field(default=0.0, metadata=_cap_meta("Source-body"))
+    cdb: float = field(default=0.0, metadata=_cap_meta("Drain-body"))
+    rg: float = field(default=0.0, metadata=_RG_META)
     l_g: float = field(default=0.0, metadata=lead_meta("gate", "1nH"))
     l_d: float = field(default=0.0, metadata=lead_meta("drain"))
     l_s: float = field(default=0.0, metadata=lead_meta("source"))
@@ -195,11 +203,11 @@ class JfetBias:
     device: Literal["njfet", "pjfet"] = "njfet"
     lambda_: float | None = field(default=None, metadata=meta(
         "1/V", "Channel-length modulation, 1/V (default: none, ro infinite).", 1e-9, 1e3, key="lambda", zero=False))
-    cgs: float = field(default=0.0, metadata=meta("F", "Gate-source capacitance, F (default 0).", 1e-18, 1.0))
-    cgd: float = field(default=0.0, metadata=meta("F", "Gate-drain capacitance, F (default 0).", 1e-18, 1.0))
-    csb: float = field(default=0.0, metadata=meta("F", "Source-body capacitance, F (default 0).", 1e-18, 1.0))
-    cdb: float = field(default=0.0, metadata=meta("F", "Drain-body capacitance, F (default 0).", 1e-18, 1.0))
-    rg: float = field(default=0.0, metadata=meta("Ohm", "Gate resistance, ohm (default 0).", 1e-6, 1e12))
+    cgs: float = field(default=0.0, metadata=_cap_meta("Gate-source"))
+    cgd: float = field(default=0.0, metadata=_cap_meta("Gate-drain"))
+    csb: float = field(default=0.0, metadata=_cap_meta("Source-body"))
+    cdb: float = field(default=0.0, metadata=_cap_meta("Drain-body"))
+    rg: float = field(default=0.0, metadata=_RG_META)
     l_g: float = field(default=0.0, metadata=lead_meta("gate", "1nH"))
     l_d: float = field(default=0.0, metadata=lead_meta("drain"))
     l_s: float = field(default=0.0, metadata=lead_meta("source"))
