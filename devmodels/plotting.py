@@ -83,6 +83,18 @@ def _mark(ax, f: float, text: str, color: str, y: float = 0.04) -> None:
                 color=color, fontsize=8, rotation=90, va="bottom")
 
 
+def _phase_deg(g: np.ndarray) -> np.ndarray:
+    """Unwrapped phase in degrees, shifted by whole turns so that the phase where |g| is largest
+    (the mid-band) lies in (-270, 90]: an inverting stage reads -180 there whatever the sign of
+    a rounding-sized imaginary part, so every plot of every stage starts the same way."""
+    ph = np.degrees(np.unwrap(np.angle(g)))
+    mag = np.abs(g)
+    if not np.any(np.isfinite(mag)):
+        return ph
+    ref = ph[np.nanargmax(mag)]
+    return ph - 360.0 * np.ceil((ref - 90.0) / 360.0)
+
+
 def _gain_axes(ax_mag, ax_ph, gains: dict, figures=None, mark_freq: float | None = None) -> None:
     for name, res in gains.items():
         if res.freq is None:
@@ -92,7 +104,7 @@ def _gain_axes(ax_mag, ax_ph, gains: dict, figures=None, mark_freq: float | None
         mk = dict(marker="o", ms=3) if len(res) <= 30 else {}  # few points: show where they are
         ax_mag.semilogx(res.freq, _db20(res.avs), color=col, label=f"{label} |avs|", **mk)
         ax_mag.semilogx(res.freq, _db20(res.av), color=col, ls="--", lw=0.9, label=f"{label} |av|")
-        ax_ph.semilogx(res.freq, np.degrees(np.unwrap(np.angle(res.avs))), color=col, label=label, **mk)
+        ax_ph.semilogx(res.freq, _phase_deg(res.avs), color=col, label=label, **mk)
     from .units import format_si
 
     corners = []

@@ -61,3 +61,23 @@ def test_noise_circles_and_noise_panel_are_drawn(tmp_path):
     q = plot_report(tmp_path / "n.svg", gains={"ce": terminate(tp, 600.0, 10e3)},
                     noise={"ce": noise_parameters(stage_noise(st, fs), zs=600.0)})
     assert "Noise figure (source at T0 = 290 K)" in q.read_text() and "CE NF at Rs" in q.read_text()
+
+
+def test_phase_of_an_inverting_stage_reads_minus_180_whatever_the_rounding():
+    """Two inverting gains that differ only in the sign of a rounding-sized imaginary part
+    (angle +180 or -180 by numpy's convention, so the unwrapped curves start a turn apart) are
+    drawn with the same phase, -180 degrees at mid-band; a non-inverting one reads 0 there."""
+    from devmodels.plotting import _phase_deg
+
+    f = np.geomspace(1.0, 1e6, 61)
+    s = 1j * f / 10.0
+    shaped = 100.0 * s / (1 + s) / (1 + 1j * f / 1e5)   # high-pass then low-pass
+    mid = int(np.argmax(np.abs(shaped)))
+    for flat in (np.full(f.size, -100.0 + 1e-300j), np.full(f.size, -100.0 - 1e-300j)):
+        assert np.allclose(_phase_deg(flat), -180.0, atol=1e-9, rtol=0)
+    inverting = -shaped
+    a = _phase_deg(inverting)
+    b = _phase_deg(inverting * np.exp(2j * np.pi))        # the same gain, numerically
+    assert a[mid] == pytest.approx(-180.0, abs=1.0)       # about -180 at mid-band (the corners are far)
+    np.testing.assert_allclose(a, b, atol=1e-9)
+    assert _phase_deg(shaped)[mid] == pytest.approx(0.0, abs=1.0)
