@@ -630,6 +630,17 @@ class NoiseResult:
                 for k in range(self.freq.size)]
 
 
+def _reference(z0) -> float:
+    """A real reference resistance z0 in ohm (> 0), or an InputError naming ``z0``."""
+    try:
+        zref = float(z0)
+    except (TypeError, ValueError):
+        raise InputError(f"z0: expected a reference resistance in ohm, got {z0!r}") from None
+    if not (math.isfinite(zref) and zref > 0):
+        raise InputError(f"z0: expected a reference resistance > 0 ohm, got {z0!r}")
+    return zref
+
+
 def noise_parameters(ntp: NoisyTwoPort, zs=50.0, z0=50.0, *, ys=None) -> NoiseResult:
     """Noise parameters of a noisy two-port, and its noise factor at a source.
 
@@ -660,12 +671,7 @@ def noise_parameters(ntp: NoisyTwoPort, zs=50.0, z0=50.0, *, ys=None) -> NoiseRe
     """
     if not isinstance(ntp, NoisyTwoPort):
         raise InputError(f"ntp: expected a NoisyTwoPort, got {type(ntp).__name__}")
-    try:
-        zref = float(z0)
-    except (TypeError, ValueError):
-        raise InputError(f"z0: expected a reference resistance in ohm, got {z0!r}") from None
-    if not (math.isfinite(zref) and zref > 0):
-        raise InputError(f"z0: expected a reference resistance > 0 ohm, got {z0!r}")
+    zref = _reference(z0)
     ca = ntp.to("abcd").cor
     y_s = _source_admittance(None if ys is not None else zs, ys, ca.shape[0])
     cu, ci, cui = ca[:, 0, 0].real, ca[:, 1, 1].real, ca[:, 0, 1]
@@ -725,12 +731,7 @@ def noise_circle(fmin, rn, gamma_opt, f, z0=50.0) -> tuple[np.ndarray, np.ndarra
         circle does not exist: ``f < fmin`` (below the least noise reachable), or no
         ``gamma_opt`` (NaN, where Rn = 0), or ``rn <= 0``.
     """
-    try:
-        zref = float(z0)
-    except (TypeError, ValueError):
-        raise InputError(f"z0: expected a reference resistance in ohm, got {z0!r}") from None
-    if not (math.isfinite(zref) and zref > 0):
-        raise InputError(f"z0: expected a reference resistance > 0 ohm, got {z0!r}")
+    zref = _reference(z0)
     fmin_, rn_, f_ = (np.asarray(v, dtype=float) for v in (fmin, rn, f))
     g = np.asarray(gamma_opt, dtype=complex)
     fmin_, rn_, g, f_ = np.broadcast_arrays(fmin_, rn_, g, f_)
