@@ -6,7 +6,8 @@ Each sample draws
   ``beta_max``, or triangular with the mode at ``beta_typ`` when one is given;
 * the junction temperature: uniform between ``temp_min`` and ``temp_max``;
 * a factor for every resistor (those of the bias network and the stage's ``rdeg`` and
-  ``rfb``), each independently uniform in [1 - tol, 1 + tol].  Uniform within the
+  ``rfb``), each independently uniform in [1 - tol, 1 + tol], and with ``ctol`` one for every
+  capacitor of the stage network in the configuration's circuit.  Uniform within the
   tolerance band is common practice, no source: it covers the whole band with no
   assumption about how a batch of parts is sorted.
 

@@ -20,7 +20,7 @@ import pytest
 import skrf
 
 from devmodels.cli import main
-from twoport_files import write_touchstone, y_to_s
+from twoport_files import Nodal, write_touchstone, y_to_s
 
 BJT = {"gm": 0.08, "r_pi": 1500.0, "c_pi": 30e-12, "c_mu": 1.5e-12, "rb": 80.0, "ro": 30e3}
 FET = {"gm": 0.03, "cgs": 0.8e-12, "cgd": 0.1e-12, "ro": 5e3, "rg": 12.0}
@@ -41,29 +41,14 @@ def nodal_y(el: dict, freq: np.ndarray, config: str) -> np.ndarray:
     rb = el.get("rb", el.get("rg"))
     c_in, c_fb = el.get("c_pi", el.get("cgs")), el.get("c_mu", el.get("cgd"))
     g_in = 1 / el["r_pi"] if "r_pi" in el else 0.0
-    ix = {"b": 0, "c": 1, "e": 2, "bi": 3}
-    G = np.zeros((w.size, 4, 4), dtype=complex)
-
-    def branch(a, b, y):
-        i, j = ix[a], ix[b]
-        G[:, i, i] += y
-        G[:, j, j] += y
-        G[:, i, j] -= y
-        G[:, j, i] -= y
-
-    branch("b", "bi", 1 / rb)
-    branch("bi", "e", g_in + 1j * w * c_in)
-    branch("bi", "c", 1j * w * c_fb)
-    branch("c", "e", 1 / el["ro"])
-    G[:, ix["c"], ix["bi"]] += el["gm"]            # gm V(bi, e) flows from c to e inside the device
-    G[:, ix["c"], ix["e"]] -= el["gm"]
-    G[:, ix["e"], ix["bi"]] -= el["gm"]
-    G[:, ix["e"], ix["e"]] += el["gm"]
+    net = Nodal(["b", "c", "e", "bi"], w.size)
+    net.branch("b", "bi", 1 / rb)
+    net.branch("bi", "e", g_in + 1j * w * c_in)
+    net.branch("bi", "c", 1j * w * c_fb)
+    net.branch("c", "e", 1 / el["ro"])
+    net.vccs("c", "e", "bi", "e", el["gm"])        # gm V(bi, e) flows from c to e inside the device
     p1, p2, _ = PORTS[config]
-    keep, inner = [ix[p1], ix[p2]], [3]
-    Gkk, Gki = G[:, keep][:, :, keep], G[:, keep][:, :, inner]
-    Gik, Gii = G[:, inner][:, :, keep], G[:, inner][:, :, inner]
-    return Gkk - Gki @ np.linalg.solve(Gii, Gik)
+    return net.two_port(p1, p2, ["bi"])
 
 
 

@@ -24,7 +24,7 @@ import devmodels as dm
 from devmodels.exceptions import FileFormatError, InputError
 from devmodels.extract import (ExtractionWarning, bias_consistency, bias_toml, direct_estimates, extract,
                                model_y, plot_fit, transit_time)
-from twoport_files import noisy
+from twoport_files import Nodal, noisy
 
 import skrf  # noqa: E402
 
@@ -35,39 +35,17 @@ PORTS = {"ce": ("b", "c", "e"), "cb": ("e", "c", "b"), "cc": ("b", "e", "c")}
 def nodal_y(el: dict, freq: np.ndarray, config: str = "ce") -> np.ndarray:
     """Y (F, 2, 2) of the hybrid-pi by its own nodal equations (independent of the package)."""
     w = 2 * np.pi * np.asarray(freq, dtype=float)
-    order = ["b", "c", "e", "bi"]                     # bi: the internal base b'
-    ix = {n: i for i, n in enumerate(order)}
-    if el["rb"] == 0:                                 # no rb: b' is the terminal b (bi left floating)
-        ix["bi"] = ix["b"]
-    G = np.zeros((w.size, 4, 4), dtype=complex)
-
-    def branch(a, b, y):
-        i, j = ix[a], ix[b]
-        G[:, i, i] += y
-        G[:, j, j] += y
-        G[:, i, j] -= y
-        G[:, j, i] -= y
-
+    net = Nodal(["b", "c", "e", "bi"] if el["rb"] else ["b", "c", "e"], w.size)  # bi: the internal base b'
     if el["rb"]:
-        branch("b", "bi", 1 / el["rb"])
-    else:
-        G[:, 3, 3] = 1.0                              # the unused row: any nonzero pivot
-    branch("bi", "e", 1 / el["r_pi"] + 1j * w * el["c_pi"])
-    branch("bi", "c", 1j * w * el["c_mu"])
-    branch("c", "e", 1 / el["ro"])
-    # gm * V(b'e) leaves the collector node through the source and enters the emitter node
-    G[:, ix["c"], ix["bi"]] += el["gm"]
-    G[:, ix["c"], ix["e"]] -= el["gm"]
-    G[:, ix["e"], ix["bi"]] -= el["gm"]
-    G[:, ix["e"], ix["e"]] += el["gm"]
+        net.branch("b", "bi", 1 / el["rb"])
+    else:                                             # no rb: b' is the terminal b
+        net.ix["bi"] = net.ix["b"]
+    net.branch("bi", "e", 1 / el["r_pi"] + 1j * w * el["c_pi"])
+    net.branch("bi", "c", 1j * w * el["c_mu"])
+    net.branch("c", "e", 1 / el["ro"])
+    net.vccs("c", "e", "bi", "e", el["gm"])          # gm V(b'e) from the collector node to the emitter node
     p1, p2, _ = PORTS[config]
-    keep = [ix[p1], ix[p2]]
-    inner = [3]
-    Gkk = G[:, keep][:, :, keep]
-    Gki = G[:, keep][:, :, inner]
-    Gik = G[:, inner][:, :, keep]
-    Gii = G[:, inner][:, :, inner]
-    return Gkk - Gki @ np.linalg.solve(Gii, Gik)
+    return net.two_port(p1, p2, net.nodes[3:])
 
 
 def y_to_s(y: np.ndarray, z0: float = 50.0) -> np.ndarray:

@@ -24,7 +24,7 @@ import devmodels as dm
 from devmodels.cli import main
 from devmodels.exceptions import InputError
 from devmodels.extract import ExtractionWarning, bias_toml, extract
-from twoport_files import noisy, write_touchstone, y_to_s
+from twoport_files import Nodal, noisy, write_touchstone, y_to_s
 
 LEADS = ("rex", "l_b", "l_c", "l_e")
 TRUE = {"gm": 0.08, "r_pi": 1500.0, "c_pi": 30e-12, "c_mu": 1.5e-12, "rb": 80.0, "ro": 30e3, "rex": 2.0,
@@ -36,34 +36,18 @@ FREQ = np.logspace(6, 10, 201)                       # 1 MHz to 10 GHz; fT about
 def nodal_y(el: dict, freq: np.ndarray, config: str = "ce") -> np.ndarray:
     """Y (F, 2, 2) of the packaged hybrid-pi by its own nodal equations (module docstring)."""
     w = 2 * np.pi * np.asarray(freq, dtype=float)
-    order = ["b", "c", "e", "bl", "cl", "el", "bi", "ei"]
-    ix = {n: i for i, n in enumerate(order)}
-    G = np.zeros((w.size, len(order), len(order)), dtype=complex)
-
-    def branch(a, b, y):
-        i, j = ix[a], ix[b]
-        G[:, i, i] += y
-        G[:, j, j] += y
-        G[:, i, j] -= y
-        G[:, j, i] -= y
-
-    branch("b", "bl", 1 / (1j * w * el["l_b"]))
-    branch("c", "cl", 1 / (1j * w * el["l_c"]))
-    branch("e", "el", 1 / (1j * w * el["l_e"]))
-    branch("bl", "bi", 1 / el["rb"])
-    branch("el", "ei", 1 / el["rex"])
-    branch("bi", "ei", 1 / el["r_pi"] + 1j * w * el["c_pi"])
-    branch("bi", "cl", 1j * w * el["c_mu"])
-    branch("cl", "ei", 1 / el["ro"])
-    # gm V(bi, ei) leaves node cl through the source and enters node ei
-    for row, sign in (("cl", 1), ("ei", -1)):
-        G[:, ix[row], ix["bi"]] += sign * el["gm"]
-        G[:, ix[row], ix["ei"]] -= sign * el["gm"]
+    net = Nodal(["b", "c", "e", "bl", "cl", "el", "bi", "ei"], w.size)
+    net.branch("b", "bl", 1 / (1j * w * el["l_b"]))
+    net.branch("c", "cl", 1 / (1j * w * el["l_c"]))
+    net.branch("e", "el", 1 / (1j * w * el["l_e"]))
+    net.branch("bl", "bi", 1 / el["rb"])
+    net.branch("el", "ei", 1 / el["rex"])
+    net.branch("bi", "ei", 1 / el["r_pi"] + 1j * w * el["c_pi"])
+    net.branch("bi", "cl", 1j * w * el["c_mu"])
+    net.branch("cl", "ei", 1 / el["ro"])
+    net.vccs("cl", "ei", "bi", "ei", el["gm"])     # gm V(bi, ei) from node cl to node ei
     p1, p2, _ = PORTS[config]
-    keep, inner = [ix[p1], ix[p2]], [ix[n] for n in order[3:]]
-    Gkk, Gki = G[:, keep][:, :, keep], G[:, keep][:, :, inner]
-    Gik, Gii = G[:, inner][:, :, keep], G[:, inner][:, :, inner]
-    return Gkk - Gki @ np.linalg.solve(Gii, Gik)
+    return net.two_port(p1, p2, net.nodes[3:])
 
 
 
@@ -199,32 +183,17 @@ def fet_nodal_y(el: dict, freq: np.ndarray, config: str) -> np.ndarray:
     gl, dl, sl; rg from gl to gi (g'); rsx from sl to si (s'); cgs gi-si, cgd gi-dl, ro dl-si and
     gm V(gi, si) from dl to si."""
     w = 2 * np.pi * np.asarray(freq, dtype=float)
-    order = ["g", "d", "s", "gl", "dl", "sl", "gi", "si"]
-    ix = {n: i for i, n in enumerate(order)}
-    G = np.zeros((w.size, len(order), len(order)), dtype=complex)
-
-    def branch(a, b, y):
-        i, j = ix[a], ix[b]
-        G[:, i, i] += y
-        G[:, j, j] += y
-        G[:, i, j] -= y
-        G[:, j, i] -= y
-
+    net = Nodal(["g", "d", "s", "gl", "dl", "sl", "gi", "si"], w.size)
     for t in "gds":
-        branch(t, t + "l", 1 / (1j * w * el["l_" + t]))
-    branch("gl", "gi", 1 / el["rg"])
-    branch("sl", "si", 1 / el["rsx"])
-    branch("gi", "si", 1j * w * el["cgs"])
-    branch("gi", "dl", 1j * w * el["cgd"])
-    branch("dl", "si", 1 / el["ro"])
-    for row, sign in (("dl", 1), ("si", -1)):
-        G[:, ix[row], ix["gi"]] += sign * el["gm"]
-        G[:, ix[row], ix["si"]] -= sign * el["gm"]
+        net.branch(t, t + "l", 1 / (1j * w * el["l_" + t]))
+    net.branch("gl", "gi", 1 / el["rg"])
+    net.branch("sl", "si", 1 / el["rsx"])
+    net.branch("gi", "si", 1j * w * el["cgs"])
+    net.branch("gi", "dl", 1j * w * el["cgd"])
+    net.branch("dl", "si", 1 / el["ro"])
+    net.vccs("dl", "si", "gi", "si", el["gm"])
     p1, p2, _ = FET_PORTS[config]
-    keep, inner = [ix[p1], ix[p2]], [ix[n] for n in order[3:]]
-    Gkk, Gki = G[:, keep][:, :, keep], G[:, keep][:, :, inner]
-    Gik, Gii = G[:, inner][:, :, keep], G[:, inner][:, :, inner]
-    return Gkk - Gki @ np.linalg.solve(Gii, Gik)
+    return net.two_port(p1, p2, net.nodes[3:])
 
 
 @pytest.mark.parametrize("config", ["cs", "cg", "cd"])
